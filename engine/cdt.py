@@ -1,0 +1,161 @@
+"""Constrained Delaunay triangulation (CDT) of points and segments: the public
+:func:`triangulate`, its input checks and the conversion to arrays.
+
+Pipeline: check and merge the input -> Delaunay of the distinct points
+(:mod:`engine.delaunay`) -> insert the segments (:mod:`engine.constraints`)
+-> choose the kept triangles (:mod:`engine.regions`) -> arrays
+(:class:`engine.triangulation.Triangulation`).  The CDT itself is the one of
+L. P. Chew, "Constrained Delaunay triangulations", Algorithmica 4, 1989.
+"""
+
+import numpy as np
+
+from .constraints import SegmentInserter
+from .delaunay import build_delaunay
+from .regions import FILL_RULES, kept_triangles
+from .triangulation import Triangulation
+
+
+def check_points(points, name="points"):
+    """(N, 2) finite float64 array, or ValueError naming the problem."""
+    try:
+        arr = np.asarray(points, dtype=np.float64)
+    except (TypeError, ValueError) as exc:
+        raise ValueError(f"{name} must be an (N, 2) array of numbers: {exc}") from None
+    if arr.ndim != 2 or arr.shape[1] != 2:
+        raise ValueError(f"{name} must have shape (N, 2), got {arr.shape}")
+    bad = ~np.isfinite(arr).all(axis=1)
+    if bad.any():
+        i = int(np.flatnonzero(bad)[0])
+        raise ValueError(f"{name} row {i} is not finite (NaN or inf): {arr[i].tolist()}")
+    return np.ascontiguousarray(arr)
+
+
+def check_segments(segments, count, name="segments"):
+    """(M, 2) int64 array of indices below `count`, or ValueError."""
+    if segments is None:
+        return np.zeros((0, 2), dtype=np.int64)
+    arr = np.asarray(segments)
+    if arr.size == 0:
+        return np.zeros((0, 2), dtype=np.int64)
+    if arr.ndim != 2 or arr.shape[1] != 2:
+        raise ValueError(f"{name} must have shape (M, 2), got {arr.shape}")
+    if not np.issubdtype(arr.dtype, np.integer):
+        if not np.issubdtype(arr.dtype, np.floating) or not np.all(np.mod(arr, 1) == 0):
+            raise ValueError(f"{name} must hold integer point indices")
+    arr = arr.astype(np.int64)
+    bad = (arr < 0) | (arr >= count)
+    if bad.any():
+        i = int(np.flatnonzero(bad.any(axis=1))[0])
+        raise ValueError(f"{name} row {i} has a point index out of range 0..{count - 1}: "
+                         f"{arr[i].tolist()}")
+    return arr
+
+
+def merge_duplicates(pts):
+    """merged_into[i]: the first row with exactly the same coordinates as row i."""
+    n = len(pts)
+    if n == 0:
+        return np.zeros(0, dtype=np.int64)
+    # exact equality of doubles (+0.0 and -0.0 are the same point)
+    clean = pts + 0.0
+    order = np.lexsort((clean[:, 1], clean[:, 0]))
+    s = clean[order]
+    new_group = np.ones(n, dtype=bool)
+    new_group[1:] = (s[1:] != s[:-1]).any(axis=1)
+    group = np.cumsum(new_group) - 1
+    first = np.full(group[-1] + 1, n, dtype=np.int64)
+    np.minimum.at(first, group, order)
+    merged = np.empty(n, dtype=np.int64)
+    merged[order] = first[group]
+    return merged
+
+
+def group_segments(mapped):
+    """Collapse segments with the same two endpoints (either direction) into
+    one: rows (a, b, first source, net direction count along a -> b, count),
+    in input order; zero-length segments are dropped."""
+    groups = {}
+    rows = []
+    for i, (a, b) in enumerate(np.asarray(mapped).tolist()):
+        if a == b:
+            continue
+        key = (a, b) if a < b else (b, a)
+        row = groups.get(key)
+        if row is None:
+            row = [a, b, i, 1, 1]
+            groups[key] = row
+            rows.append(row)
+        else:
+            row[3] += 1 if (a, b) == (row[0], row[1]) else -1
+            row[4] += 1
+    return rows
+
+
+def triangulate(points, segments=None, *, holes=None, fill=None):
+    """Constrained Delaunay triangulation of `points` with constraint `segments`.
+
+    points    (N, 2) floats.
+    segments  (M, 2) point indices; crossing segments are split at their
+              crossing (a new point), a point on a segment splits it,
+              overlapping collinear segments merge; zero-length ones are ignored.
+    holes     (H, 2) seed points: the region around each, bounded by
+              segments, is removed.
+    fill      "hull" keeps the convex hull; "even-odd" / "nonzero" keep the
+              regions the closed segment loops enclose (nonzero counts segment
+              directions).  Default "hull" without segments, "even-odd" with.
+
+    Returns a :class:`Triangulation`; raises ValueError on bad input."""
+    pts = check_points(points)
+    n = len(pts)
+    segs = check_segments(segments, n)
+    hole_pts = check_points(holes, "holes") if holes is not None and len(holes) else \
+        np.zeros((0, 2))
+    if fill is None:
+        fill = "even-odd" if len(segs) else "hull"
+    if fill not in FILL_RULES:
+        raise ValueError(f"fill must be one of {', '.join(FILL_RULES)}; got {fill!r}")
+    if n < 3:
+        raise ValueError(f"need at least three distinct, non-collinear points; got {n} points")
+    merged = merge_duplicates(pts)
+    distinct = np.flatnonzero(merged == np.arange(n))
+    if len(distinct) < 3:
+        raise ValueError("need at least three distinct, non-collinear points; "
+                         f"got {len(distinct)} distinct points")
+    xs = pts[:, 0].tolist()
+    ys = pts[:, 1].tolist()
+    mesh = build_delaunay(xs, ys, distinct.tolist())
+    inserter = SegmentInserter(mesh)
+    for a, b, source, net, count in group_segments(merged[segs] if len(segs) else segs):
+        inserter.insert(a, b, source, net, count)
+    kept = kept_triangles(mesh, fill, hole_pts.tolist())
+    result = mesh_to_triangulation(mesh, kept, merged)
+    result.stats["added_points"] = len(inserter.added)
+    return result
+
+
+def mesh_to_triangulation(mesh, kept, merged_into):
+    """Arrays for the triangle slots `kept` of `mesh`."""
+    tv, tn = mesh.tv, mesh.tn
+    kept = np.asarray(kept, dtype=np.int64)
+    slots = len(mesh.mark)
+    tv_arr = np.asarray(tv, dtype=np.int64).reshape(slots, 3)
+    tn_arr = np.asarray(tn, dtype=np.int64).reshape(slots, 3)
+    new_index = np.full(slots + 1, -1, dtype=np.int64)
+    new_index[kept] = np.arange(len(kept))
+    triangles = tv_arr[kept]
+    nb = tn_arr[kept]
+    neighbors = np.where(nb >= 0, new_index[nb // 3], -1)
+    # constrained edges next to a kept triangle
+    tc_arr = np.asarray(mesh.tc, dtype=bool).reshape(slots, 3)[kept]
+    rows, ks = np.nonzero(tc_arr)
+    u = triangles[rows, (ks + 1) % 3]
+    v = triangles[rows, (ks + 2) % 3]
+    lo, hi = np.minimum(u, v), np.maximum(u, v)
+    keys = np.unique(np.column_stack((lo, hi)), axis=0) if len(lo) else np.zeros((0, 2), np.int64)
+    info = mesh.constraint_info
+    source = np.array([info[(int(a), int(b))][0] for a, b in keys], dtype=np.int64)
+    points = np.column_stack((np.asarray(mesh.x), np.asarray(mesh.y)))
+    return Triangulation(points=points, triangles=triangles, neighbors=neighbors,
+                         segments=keys.reshape(-1, 2), segment_source=source,
+                         merged_into=np.asarray(merged_into, dtype=np.int64))

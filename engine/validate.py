@@ -1,0 +1,132 @@
+"""Exact validity checks for a Triangulation (used by tests, fuzzing and callers
+who want proof rather than trust).
+
+check_triangulation(tri, segments=None, points_used=False) returns a list of
+problems (empty when valid):
+
+* every triangle strictly counter-clockwise (exact orientation);
+* neighbours consistent: across edge k of t lies a triangle holding the same
+  edge reversed, and -1 only where no kept triangle does;
+* every edge that is not a constraint and has triangles on both sides is
+  locally Delaunay (exact incircle <= 0);
+* every input segment (after duplicate merging) that touches the kept region
+  is covered by a chain of output segments: vertices of the chain lie on it
+  exactly, except points added at crossings, which must lie within 1e-9 of
+  its length from it;
+* with points_used=True, every distinct input point is a triangle vertex.
+"""
+
+import numpy as np
+
+from .predicates import incircle_many, orient2d_many
+
+
+def _edge_table(triangles):
+    t_count = len(triangles)
+    u = triangles[:, [1, 2, 0]].ravel()
+    v = triangles[:, [2, 0, 1]].ravel()
+    return u, v, np.arange(3 * t_count)
+
+
+def check_triangulation(tri, segments=None, points_used=False):
+    problems = []
+    pts = tri.points
+    tris = np.asarray(tri.triangles, dtype=np.int64)
+    if len(tris) == 0:
+        return problems
+    o = orient2d_many(pts[tris[:, 0]], pts[tris[:, 1]], pts[tris[:, 2]])
+    bad = np.flatnonzero(o <= 0)
+    if len(bad):
+        problems.append(f"{len(bad)} triangles not strictly counter-clockwise (first {bad[0]})")
+    u, v, corner = _edge_table(tris)
+    nb = np.asarray(tri.neighbors, dtype=np.int64).ravel()
+    # directed edge lookup
+    key = {}
+    for c, a, b in zip(corner.tolist(), u.tolist(), v.tolist()):
+        if (a, b) in key:
+            problems.append(f"directed edge {a}->{b} appears twice (overlapping triangles)")
+        key[(a, b)] = c
+    opposite = np.array([key.get((b, a), -1) for a, b in zip(u.tolist(), v.tolist())],
+                        dtype=np.int64)
+    expect = np.where(opposite >= 0, opposite // 3, -1)
+    wrong = np.flatnonzero(expect != nb)
+    if len(wrong):
+        problems.append(f"{len(wrong)} neighbor entries inconsistent (first corner {wrong[0]})")
+    constrained = set(map(tuple, np.sort(np.asarray(tri.segments, dtype=np.int64), axis=1).tolist()))
+    inner = np.flatnonzero(opposite >= 0)
+    if len(inner):
+        lo = np.minimum(u[inner], v[inner])
+        hi = np.maximum(u[inner], v[inner])
+        free = np.array([(a, b) not in constrained for a, b in zip(lo.tolist(), hi.tolist())],
+                        dtype=bool)
+        cs = inner[free]
+        if len(cs):
+            t = cs // 3
+            apex = tris.ravel()[opposite[cs]]
+            d = incircle_many(pts[tris[t, 0]], pts[tris[t, 1]], pts[tris[t, 2]], pts[apex])
+            nd = np.flatnonzero(d > 0)
+            if len(nd):
+                problems.append(f"{len(nd)} unconstrained edges not locally Delaunay")
+    if segments is not None and len(segments):
+        problems.extend(_check_coverage(tri, np.asarray(segments, dtype=np.int64)))
+    if points_used:
+        distinct = np.flatnonzero(tri.merged_into == np.arange(len(tri.merged_into)))
+        used = np.zeros(len(pts), dtype=bool)
+        used[tris.ravel()] = True
+        missing = distinct[~used[distinct]]
+        if len(missing):
+            problems.append(f"{len(missing)} distinct input points unused (first {missing[0]})")
+    return problems
+
+
+def _check_coverage(tri, segments):
+    from .predicates import orient2d
+    problems = []
+    pts = tri.points
+    n_input = len(tri.merged_into)
+    seg_set = set(map(tuple, np.sort(np.asarray(tri.segments), axis=1).tolist()))
+    seg_vertices = np.unique(np.asarray(tri.segments).ravel())
+    adjacency = {}
+    for p, q in np.asarray(tri.segments).tolist():
+        adjacency.setdefault(p, []).append(q)
+        adjacency.setdefault(q, []).append(p)
+    used = np.zeros(len(pts), dtype=bool)
+    used[np.asarray(tri.triangles).ravel()] = True
+    for i, (a, b) in enumerate(tri.merged_into[segments].tolist()):
+        if a == b or not (used[a] and used[b]):
+            continue
+        if (min(a, b), max(a, b)) in seg_set:
+            continue
+        ax, ay = pts[a]
+        bx, by = pts[b]
+        length2 = (bx - ax) ** 2 + (by - ay) ** 2
+        chain = []
+        for w in seg_vertices.tolist():
+            wx, wy = pts[w]
+            t = ((wx - ax) * (bx - ax) + (wy - ay) * (by - ay)) / length2
+            if not (-1e-12 <= t <= 1 + 1e-12):
+                continue
+            if w < n_input:
+                on = orient2d(ax, ay, bx, by, wx, wy) == 0
+            else:
+                dist = abs((bx - ax) * (wy - ay) - (by - ay) * (wx - ax)) / length2
+                on = dist <= 1e-9
+            if on:
+                chain.append((t, w))
+        near = {w for _, w in chain}
+        if a not in near or b not in near:
+            problems.append(f"input segment {i} ({a}-{b}) not covered at its ends")
+            continue
+        # a chain of output segments through vertices on (or, for crossing
+        # points, within rounding of) the input segment joins a to b
+        seen = {a}
+        stack = [a]
+        while stack:
+            p = stack.pop()
+            for q in adjacency.get(p, ()):
+                if q in near and q not in seen:
+                    seen.add(q)
+                    stack.append(q)
+        if b not in seen:
+            problems.append(f"input segment {i} ({a}-{b}) is not covered by output segments")
+    return problems
