@@ -10,11 +10,14 @@ Special cases, all decided with exact predicates:
 
 * a vertex lying on the segment splits it there (the pieces are inserted in turn);
 * a segment overlapping an existing constraint just adds to that edge's record;
-* a segment crossing an existing constraint: the crossing point, rounded to
-  the nearest double, becomes a new vertex; the old constraint is released,
-  the vertex inserted, and both constraints are inserted again as pieces
-  through it, so no constraint is ever lost even when rounding puts the
-  vertex a hair off either line.
+* a segment crossing an existing constraint: the crossing point of the two
+  input segments is computed exactly (fractions), rounded to the nearest
+  double and becomes a new vertex; the old constraint is released, the vertex
+  inserted, and both constraints are inserted again as pieces through it, so
+  no constraint is ever lost even when rounding puts the vertex a hair off
+  either line.  Segments meeting at one exact point share one vertex;
+* pieces remember their input segment ("carrier"): an input vertex exactly on
+  the carrier splits the piece even when the piece ends at a rounded crossing.
 """
 
 from collections import deque
@@ -28,14 +31,19 @@ class ConstraintError(RuntimeError):
     """Raised when a segment cannot be recovered (indicates a corrupt mesh)."""
 
 
-def _intersection(mesh, a, b, c, d):
-    """Crossing point of segments a-b and c-d, exactly computed then rounded."""
+def _exact_crossing(mesh, first, second):
+    """Exact crossing point (two Fractions) of the lines through the vertex
+    pairs `first` and `second`, or None when they are parallel."""
     x, y = mesh.x, mesh.y
+    a, b = first
+    c, d = second
     ax, ay, bx, by = map(Fraction, (x[a], y[a], x[b], y[b]))
     cx, cy, dx, dy = map(Fraction, (x[c], y[c], x[d], y[d]))
     denom = (bx - ax) * (dy - cy) - (by - ay) * (dx - cx)
+    if denom == 0:
+        return None
     s = ((cx - ax) * (dy - cy) - (cy - ay) * (dx - cx)) / denom
-    return float(ax + s * (bx - ax)), float(ay + s * (by - ay))
+    return (ax + s * (bx - ax), ay + s * (by - ay))
 
 
 class SegmentInserter:
@@ -46,6 +54,11 @@ class SegmentInserter:
         self.added = []          # vertex indices created at crossings
         self.released = []       # edges whose constraint was released and re-inserted
         self.depth = 0
+        # source segment -> its two input endpoints: the exact line on which
+        # input vertices split it, even for pieces that end at rounded crossings
+        self.carrier = {}
+        # exact crossing point -> the vertex that stands for it
+        self.exact_vertex = {}
 
     # -------------------------------------------------------------- helpers
     def _orient(self, a, b, c):
@@ -73,6 +86,8 @@ class SegmentInserter:
     def insert(self, a, b, source, net=1, count=1):
         """Insert segment a -> b (vertex indices) as a constraint."""
         mesh = self.mesh
+        if self.depth == 0 and source not in self.carrier:
+            self.carrier[source] = (a, b)
         c = mesh.edge_corner_fast(a, b)
         if c >= 0:                       # the common case: already an edge
             mesh.set_constraint(c, True)
@@ -105,7 +120,7 @@ class SegmentInserter:
             u, v = work.pop()
             if u == v:
                 continue
-            outcome = self._walk(u, v)
+            outcome = self._walk(u, v, self.carrier.get(source))
             kind = outcome[0]
             if kind == "edge":
                 self._mark(u, v, source, net, count)
@@ -115,7 +130,7 @@ class SegmentInserter:
                 work.append((u, w))
             elif kind == "cross-constraint":  # u-v crosses constraint (c, d)
                 c, d = outcome[1], outcome[2]
-                w = self._split_constraint(u, v, c, d)
+                w = self._split_constraint(u, v, c, d, source)
                 work.append((w, v))
                 work.append((u, w))
             else:                              # crossing free edges only
@@ -126,12 +141,22 @@ class SegmentInserter:
                     work.append((end, v))
 
     # ------------------------------------------------------------- the walk
-    def _walk(self, a, b):
+    def _walk(self, a, b, carrier=None):
         """Follow a -> b.  Returns ("edge",), ("vertex", w),
-        ("cross-constraint", c, d) or ("cross", crossed_edges, end_vertex)."""
+        ("cross-constraint", c, d) or ("cross", crossed_edges, end_vertex).
+
+        `carrier` (two vertex indices) is the input segment a-b is a piece
+        of; a vertex exactly on it between a and b also splits the piece."""
         mesh = self.mesh
         tv, tn, tc = mesh.tv, mesh.tn, mesh.tc
         orient = self._orient
+        if carrier is not None and (carrier == (a, b) or carrier == (b, a)):
+            carrier = None
+
+        def on_carrier(w):
+            return (carrier is not None and w not in carrier
+                    and orient(carrier[0], carrier[1], w) == 0 and self._between(a, b, w))
+
         start = None
         for c in mesh.corners_around(a):
             v1, v2 = tv[next_corner(c)], tv[prev_corner(c)]
@@ -141,9 +166,9 @@ class SegmentInserter:
                 continue
             o1 = orient(a, v1, b)
             o2 = orient(a, v2, b)
-            if o1 == 0 and self._between(a, b, v1):
+            if (o1 == 0 and self._between(a, b, v1)) or on_carrier(v1):
                 return ("vertex", v1)
-            if o2 == 0 and self._between(a, b, v2):
+            if (o2 == 0 and self._between(a, b, v2)) or on_carrier(v2):
                 return ("vertex", v2)
             if o1 > 0 and o2 < 0:
                 start = c
@@ -167,6 +192,8 @@ class SegmentInserter:
             o = orient(a, b, w)
             if o == 0:
                 return ("cross", crossed, w)
+            if on_carrier(w):
+                return ("vertex", w)
             # the next crossed edge of triangle (w, v2, v1) = oc's triangle
             if o < 0:      # w on the right: crossed edge is w-v2, opposite v1
                 c = prev_corner(oc)
@@ -215,21 +242,34 @@ class SegmentInserter:
         mesh.legalize_edges(fresh + outer)
 
     # ------------------------------------------------------- crossings
-    def _split_constraint(self, a, b, c, d):
-        """Add the crossing vertex of a-b with constraint c-d; re-insert c-d
-        through it.  Returns the new vertex (or an existing one it hit)."""
+    def _split_constraint(self, a, b, c, d, source):
+        """Add the crossing vertex of a-b (a piece of segment `source`) with
+        constraint c-d and re-insert c-d through it.  Returns the vertex.
+
+        The crossing is computed exactly on the two input segments (their
+        carriers), so several segments through one point that is not a
+        double share a single rounded vertex."""
         mesh = self.mesh
-        px, py = _intersection(mesh, a, b, c, d)
         key = (c, d) if c < d else (d, c)
-        source, net, count = mesh.constraint_info.pop(key)
+        other = mesh.constraint_info[key][0]
+        exact = _exact_crossing(mesh, self.carrier.get(source, (a, b)),
+                                self.carrier.get(other, (c, d)))
+        if exact is None:          # carriers parallel: only rounding made the pieces cross
+            exact = _exact_crossing(mesh, (a, b), (c, d))
+        w = self.exact_vertex.get(exact)
+        if w is not None and w in (c, d):
+            return w               # the crossing is that end of c-d: route a-b through it
+        rec_source, net, count = mesh.constraint_info.pop(key)
         corner = mesh.find_edge(c, d)
         mesh.set_constraint(corner, False)
         self.released.append((c, d))
-        w = self.insert_point(px, py, start=corner // 3)
+        if w is None:
+            w = self.insert_point(float(exact[0]), float(exact[1]), start=corner // 3)
+            self.exact_vertex.setdefault(exact, w)
         lo, hi = key
         # pieces keep the old record, in the lo -> hi direction
-        self.insert(lo, w, source, net, count)
-        self.insert(w, hi, source, net, count)
+        self.insert(lo, w, rec_source, net, count)
+        self.insert(w, hi, rec_source, net, count)
         return w
 
     def insert_point(self, px, py, start=None):
