@@ -75,21 +75,23 @@ def group_segments(mapped):
     """Collapse segments with the same two endpoints (either direction) into
     one: rows (a, b, first source, net direction count along a -> b, count),
     in input order; zero-length segments are dropped."""
-    groups = {}
-    rows = []
-    for i, (a, b) in enumerate(np.asarray(mapped).tolist()):
-        if a == b:
-            continue
-        key = (a, b) if a < b else (b, a)
-        row = groups.get(key)
-        if row is None:
-            row = [a, b, i, 1, 1]
-            groups[key] = row
-            rows.append(row)
-        else:
-            row[3] += 1 if (a, b) == (row[0], row[1]) else -1
-            row[4] += 1
-    return rows
+    segs = np.asarray(mapped, dtype=np.int64).reshape(-1, 2)
+    keep = np.flatnonzero(segs[:, 0] != segs[:, 1])
+    if len(keep) == 0:
+        return []
+    s = segs[keep]
+    lo, hi = s.min(axis=1), s.max(axis=1)
+    code = lo * (int(hi.max()) + 1) + hi
+    _, first, inverse = np.unique(code, return_index=True, return_inverse=True)
+    inverse = inverse.ravel()
+    rep = s[first]                                   # the first segment of each group
+    same_dir = (s[:, 0] == rep[inverse, 0]).astype(np.int64) * 2 - 1
+    net = np.zeros(len(first), dtype=np.int64)
+    np.add.at(net, inverse, same_dir)
+    count = np.bincount(inverse, minlength=len(first))
+    order = np.argsort(first, kind="stable")
+    return list(zip(rep[order, 0].tolist(), rep[order, 1].tolist(), keep[first[order]].tolist(),
+                    net[order].tolist(), count[order].tolist()))
 
 
 def triangulate(points, segments=None, *, holes=None, fill=None):
@@ -153,9 +155,21 @@ def mesh_to_triangulation(mesh, kept, merged_into):
     v = triangles[rows, (ks + 2) % 3]
     lo, hi = np.minimum(u, v), np.maximum(u, v)
     keys = np.unique(np.column_stack((lo, hi)), axis=0) if len(lo) else np.zeros((0, 2), np.int64)
-    info = mesh.constraint_info
-    source = np.array([info[(int(a), int(b))][0] for a, b in keys], dtype=np.int64)
+    source = _segment_sources(mesh.constraint_info, keys)
     points = np.column_stack((np.asarray(mesh.x), np.asarray(mesh.y)))
     return Triangulation(points=points, triangles=triangles, neighbors=neighbors,
                          segments=keys.reshape(-1, 2), segment_source=source,
                          merged_into=np.asarray(merged_into, dtype=np.int64))
+
+
+def _segment_sources(info, keys):
+    """The recorded source segment of each (lo, hi) row of `keys`."""
+    if len(keys) == 0:
+        return np.zeros(0, dtype=np.int64)
+    pairs = np.array(list(info.keys()), dtype=np.int64).reshape(-1, 2)
+    sources = np.array([rec[0] for rec in info.values()], dtype=np.int64)
+    width = int(max(pairs.max(), keys.max())) + 1
+    codes = pairs[:, 0] * width + pairs[:, 1]
+    order = np.argsort(codes)
+    pos = np.searchsorted(codes[order], keys[:, 0] * width + keys[:, 1])
+    return sources[order[pos]]

@@ -66,6 +66,7 @@ class Mesh:
         self.walk_counter = 0
         # constraint metadata: (lo, hi) -> [source segment, net direction lo->hi, count]
         self.constraint_info = {}
+        self.scratch = []
 
     # ------------------------------------------------------------------ basics
     def add_vertex(self, px, py):
@@ -301,7 +302,12 @@ class Mesh:
         elif extra < 0:      # not possible for a disk-shaped cavity; kept for safety
             return self._fill_generic(p, cavity, boundary)
         vt = self.vt
-        starting = {}
+        # triangle base by the vertex its border edge starts at; the ghost
+        # vertex (-1) uses the extra last entry
+        starting = self.scratch
+        if len(starting) <= len(x):
+            starting.extend([0] * (len(x) + 1 - len(starting)))
+            starting[-1] = 0
         ends = []
         for i in range(len(boundary)):
             c = boundary[i]
