@@ -8,10 +8,15 @@ polygon rules of computer graphics (e.g. the SVG fill-rule property).
 
 Only segments on closed loops bound regions: chains with a free end are pruned
 first (repeatedly dropping edges at vertices of degree one), so they remain
-constraints inside whatever region they cross.  Hole seeds remove the region
+constraints inside whatever region they cross.  For even-odd, walls that run
+from one loop to another (chords, leaving vertices where an odd number of
+segments meet) are found as shortest paths between those vertices and bound
+nothing either.  Hole seeds remove the region
 around them bounded by any constraint.
 """
 
+import heapq
+import math
 from collections import defaultdict, deque
 
 from .mesh import NEXT, PREV
@@ -48,7 +53,50 @@ def _bounding_weights(mesh, fill):
                 other = key[1] if key[0] == v else key[0]
                 if degree[other] == 1:
                     queue.append(other)
+    if fill == "even-odd":
+        _drop_chords(mesh, weights, degree, by_vertex)
     return weights
+
+
+def _drop_chords(mesh, weights, degree, by_vertex):
+    """Make every vertex of the bounding edges even (a union of closed loops):
+    pair up the odd vertices along shortest paths (Euclidean length) and
+    toggle those edges out.  A wall drawn across a room from wall to wall is
+    the shortest way between its two ends, so it is the part dropped: it
+    stays a constraint but bounds nothing."""
+    x, y = mesh.x, mesh.y
+    odd = {v for v, d in degree.items() if d % 2 == 1}
+    graph = {v: [k for k in keys if k in weights] for v, keys in by_vertex.items()}
+    toggled = set()
+    while odd:
+        source = odd.pop()
+        dist = {source: 0.0}
+        back = {}
+        heap = [(0.0, source)]
+        target = None
+        while heap:
+            d, v = heapq.heappop(heap)
+            if d > dist[v]:
+                continue
+            if v in odd:
+                target = v
+                break
+            for key in graph.get(v, ()):
+                u = key[1] if key[0] == v else key[0]
+                nd = d + math.hypot(x[u] - x[v], y[u] - y[v])
+                if nd < dist.get(u, math.inf):
+                    dist[u] = nd
+                    back[u] = (v, key)
+                    heapq.heappush(heap, (nd, u))
+        if target is None:
+            continue
+        odd.discard(target)
+        v = target
+        while v != source:
+            v, key = back[v]
+            toggled ^= {key}
+    for key in toggled:
+        del weights[key]
 
 
 def kept_triangles(mesh, fill, hole_points=()):
