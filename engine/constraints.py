@@ -31,9 +31,10 @@ class ConstraintError(RuntimeError):
     """Raised when a segment cannot be recovered (indicates a corrupt mesh)."""
 
 
-def _exact_crossing(mesh, first, second):
+def _exact_crossing(mesh, first, second, strict=False):
     """Exact crossing point (two Fractions) of the lines through the vertex
-    pairs `first` and `second`, or None when they are parallel."""
+    pairs `first` and `second`, or None when they are parallel (with
+    strict=True also when it is not strictly inside both segments)."""
     x, y = mesh.x, mesh.y
     a, b = first
     c, d = second
@@ -43,6 +44,10 @@ def _exact_crossing(mesh, first, second):
     if denom == 0:
         return None
     s = ((cx - ax) * (dy - cy) - (cy - ay) * (dx - cx)) / denom
+    if strict:
+        r = ((cx - ax) * (by - ay) - (cy - ay) * (bx - ax)) / denom
+        if not (0 < s < 1 and 0 < r < 1):
+            return None
     return (ax + s * (bx - ax), ay + s * (by - ay))
 
 
@@ -253,8 +258,10 @@ class SegmentInserter:
         key = (c, d) if c < d else (d, c)
         other = mesh.constraint_info[key][0]
         exact = _exact_crossing(mesh, self.carrier.get(source, (a, b)),
-                                self.carrier.get(other, (c, d)))
-        if exact is None:          # carriers parallel: only rounding made the pieces cross
+                                self.carrier.get(other, (c, d)), strict=True)
+        if exact is None:
+            # carriers parallel, or meeting only at an end: rounding of earlier
+            # crossings made the pieces cross, so split where the pieces do
             exact = _exact_crossing(mesh, (a, b), (c, d))
         w = self.exact_vertex.get(exact)
         if w is not None and w in (c, d):
@@ -264,8 +271,16 @@ class SegmentInserter:
         mesh.set_constraint(corner, False)
         self.released.append((c, d))
         if w is None:
-            w = self.insert_point(float(exact[0]), float(exact[1]), start=corner // 3)
-            self.exact_vertex.setdefault(exact, w)
+            px, py = float(exact[0]), float(exact[1])
+            t = mesh.locate(px, py, corner // 3)
+            if mesh.is_live_real(t):
+                w = self.insert_point(px, py, start=t)
+                self.exact_vertex.setdefault(exact, w)
+            else:
+                # rounding put the crossing outside the (very thin) hull: route
+                # both constraints through the nearest of their four ends
+                w = min((a, b, c, d), key=lambda v: (float(mesh.x[v] - exact[0]) ** 2
+                                                     + float(mesh.y[v] - exact[1]) ** 2))
         lo, hi = key
         # pieces keep the old record, in the lo -> hi direction
         self.insert(lo, w, rec_source, net, count)
@@ -278,6 +293,8 @@ class SegmentInserter:
         mesh = self.mesh
         x, y, tv = mesh.x, mesh.y, mesh.tv
         t = mesh.locate(px, py, start)
+        if not mesh.is_live_real(t):
+            raise ConstraintError("a crossing point fell outside the triangulation")
         for k in range(3):
             v = tv[3 * t + k]
             if v >= 0 and x[v] == px and y[v] == py:

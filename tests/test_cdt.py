@@ -402,6 +402,23 @@ def test_dangling_wall_inside_floor():
     assert {(4, 5), (5, 6)} <= H.undirected(tri.segments)
 
 
+def test_dangling_wall_through_outline():
+    # A dangling segment that runs from inside the floor through its outline
+    # to the outside: it is split where it crosses the outline; the inside
+    # piece stays a constraint, the area stays the floor's (shapely), and
+    # every output segment is an edge of a kept triangle (contract: the
+    # segments as they stand in the output).
+    outer = [(0, 0), (10, 0), (10, 6), (0, 6)]
+    pts, segs = H.loops_to_input([outer])
+    pts = np.vstack([pts, [(5.0, 3.0), (14.0, 3.0)]])
+    segs = np.vstack([segs, [(4, 5)]])
+    tri = engine.triangulate(pts, segs)
+    H.check_triangulation(tri, pts, segs, fill="even-odd", area=Polygon(outer).area,
+                          cover="kept")
+    assert len(tri.points) == 7 and tuple(tri.points[6]) == (10.0, 3.0)
+    assert (4, 6) in H.undirected(tri.segments)
+
+
 def test_kettner_grid_with_constraint():
     # Source: Kettner et al. 2008 grid; the segment from (0.5, 0.5) to
     # (24, 24) passes exactly through every grid point with i == j and
@@ -436,6 +453,30 @@ def test_kettner_grid_crossing_constraints():
     assert len(tri.points) == len(pts) + 1
     assert np.allclose(tri.points[-1], (210 / 37, 210 / 37), rtol=1e-12, atol=0)
     assert sorted(tri.segment_source.tolist()).count(1) == 2
+
+
+@pytest.mark.parametrize("ij,segs", [
+    # grid offsets (i, j) in ulps of 0.5; segments as index pairs
+    ([(173, 78), (176, 201), (180, 131), (109, 31), (175, 184)], [(0, 4), (2, 3), (1, 0)]),
+    ([(83, 25), (88, 52), (81, 137), (105, 163), "far24"], [(2, 4), (3, 0), (1, 3)]),
+    ([(66, 112), (90, 39), "far12", "far24", "corner"], [(0, 2), (3, 0), (1, 4)]),
+    ([(1, 4), (0, 1), (0, 3), "far24", "far12"], [(1, 3), (2, 4)]),
+    ([(1, 1), (0, 1), (0, 3), "far24", "far12"], [(0, 2), (1, 4), (3, 1)]),
+    ([(0, 1), (0, 3), (0, 0), "far24", "far12"], [(0, 3), (1, 4)]),
+])
+def test_kettner_grid_crossings_at_ulp_scale(ij, segs):
+    # Source: Kettner et al. 2008 grid.  Segments between grid points cross
+    # at points whose coordinates are not floats; near 0.5 the floats ARE
+    # the grid (spacing 2^-53), so every rounded crossing lands on a grid
+    # node an ulp or so off the lines.  The result must still be a valid
+    # triangulation with every segment covered (strict=False: at this scale
+    # a 1e-9 tolerance cannot tell the segments apart).
+    named = {"far12": (12.0, 12.0), "far24": (24.0, 24.0), "corner": (0.5, 24.0)}
+    u = 2.0 ** -53
+    pts = _f([named[p] if isinstance(p, str) else (0.5 + p[0] * u, 0.5 + p[1] * u) for p in ij])
+    segs = _i(segs)
+    tri = engine.triangulate(pts, segs, fill="hull")
+    H.check_triangulation(tri, pts, segs, fill="hull", strict=False)
 
 
 # ---------------------------------------------------------------------------
@@ -545,3 +586,29 @@ def test_property_hole_seeds_hull(data, seed_cells):
         assert len(tri.triangles) == 0
         return
     H.check_triangulation(tri, pts, segs, fill="seeded", area=expected, cover="kept")
+
+
+@st.composite
+def kettner_points_and_segments(draw):
+    ij = draw(st.lists(st.tuples(st.integers(0, 255), st.integers(0, 255)),
+                       min_size=2, max_size=30, unique=True))
+    u = 2.0 ** -53
+    far = draw(st.lists(st.sampled_from([(12.0, 12.0), (24.0, 24.0), (0.5, 24.0), (24.0, 0.5)]),
+                        max_size=4, unique=True))
+    pts = np.array([(0.5 + i * u, 0.5 + j * u) for i, j in ij] + far, dtype=np.float64)
+    n = len(pts)
+    segs = draw(st.lists(st.tuples(st.integers(0, n - 1), st.integers(0, n - 1)),
+                         min_size=1, max_size=5))
+    return pts, np.array(segs, dtype=np.int64).reshape(-1, 2)
+
+
+@given(kettner_points_and_segments())
+def test_property_kettner_grid_segments(data):
+    # Source: Kettner et al. 2008 near-collinear grid, now with random
+    # constraints between grid points and the far points: valid exact
+    # triangulation, all points used, Euler count, hull area, every segment
+    # covered by pieces within tolerance, exactly-on points split segments.
+    pts, segs = data
+    assume(not H.all_collinear(pts))
+    tri = engine.triangulate(pts, segs, fill="hull")
+    H.check_triangulation(tri, pts, segs, fill="hull", strict=False)

@@ -166,6 +166,17 @@ def test_kettner_near_collinear_grid(i_values, j_values):
     assert set(tri.triangles.ravel().tolist()) == set(range(len(pts)))
 
 
+def test_kettner_full_grid():
+    # Source: Kettner et al. 2008, the full example: all 256 x 256 points
+    # p = (0.5 + i*2^-53, 0.5 + j*2^-53) plus (12, 12) and (24, 24).  Every
+    # triangle strictly CCW (exact), every point used, Euler's formula for
+    # the count, exact local Delaunay test on every edge.
+    pts = H.kettner_grid(range(256), range(256))
+    tri = _tri(pts)
+    H.check_triangulation(tri, pts)
+    assert len(np.unique(tri.triangles)) == len(pts)
+
+
 def test_kettner_random_subsample():
     # Source: Kettner et al. 2008 (as above), a random 300-point subset of
     # the 256 x 256 grid plus the two far points.

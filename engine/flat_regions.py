@@ -1,0 +1,177 @@
+"""Finding the flat regions of a polygon mesh.
+
+Face normals come from Newell's method (M. E. Newell, as presented by
+F. Tampieri, "Newell's method for computing the plane equation of a polygon",
+Graphics Gems III, 1992), which is exact for planar polygons and a
+least-squares-like average for slightly warped ones; its length is twice the
+polygon's area.
+
+A region grows from its largest unvisited face across edges to neighbouring
+faces whose normal is within ``flat_angle`` of both the neighbour's and the
+region's normal and whose vertices all lie within ``flat_distance`` of the
+seed's plane.  It never crosses a break edge, a border or non-manifold edge,
+an edge where the two faces disagree in orientation, or the border of the
+face mask.  Faces so thin that rounding noise dominates their normal (as
+slivers from float32 STL files are) join on the distance test alone.
+
+The default distance tolerance is relative to the region: 1e-4 of its
+bounding-box diagonal, plus a floor for float32 rounding of the coordinates.
+"""
+
+import math
+from dataclasses import dataclass, field
+
+import numpy as np
+
+# float32 spacing relative to magnitude (2**-23), times a small safety factor
+FLOAT32_NOISE = 4.0 * 2.0 ** -23
+RELATIVE_FLATNESS = 1e-4
+
+
+@dataclass
+class Region:
+    """A set of faces that lie in one plane (within tolerance)."""
+
+    faces: list
+    normal: np.ndarray          # unit normal (area-weighted Newell sum)
+    origin: np.ndarray          # a point on the plane (area-weighted centroid)
+    tolerance: float            # the distance tolerance used
+    deviation: float = 0.0      # largest vertex distance from the fitted plane
+    inner_edges: list = field(default_factory=list)   # break edges inside the region
+
+
+def newell_normals(vertices, polys):
+    """(F, 3) Newell vectors (length = 2 x area for planar faces)."""
+    v = vertices[polys.corners]
+    w = vertices[polys.corners[polys.next_corner()]]
+    terms = np.column_stack((
+        (v[:, 1] - w[:, 1]) * (v[:, 2] + w[:, 2]),
+        (v[:, 2] - w[:, 2]) * (v[:, 0] + w[:, 0]),
+        (v[:, 0] - w[:, 0]) * (v[:, 1] + w[:, 1]),
+    ))
+    if len(polys.corners) == 0:
+        return np.zeros((0, 3))
+    return np.add.reduceat(terms, polys.starts[:-1], axis=0)
+
+
+class EdgeTable:
+    """Undirected edges of a polygon mesh and the corners that use them."""
+
+    def __init__(self, polys, vertex_count):
+        corners = np.arange(len(polys.corners))
+        a = polys.corners
+        b = polys.corners[polys.next_corner()]
+        lo, hi = np.minimum(a, b), np.maximum(a, b)
+        code = lo * np.int64(vertex_count) + hi
+        order = np.argsort(code, kind="stable")
+        code_sorted = code[order]
+        first = np.ones(len(order), dtype=bool)
+        first[1:] = code_sorted[1:] != code_sorted[:-1]
+        self.edge_of_corner = np.empty(len(order), dtype=np.int64)
+        self.edge_of_corner[order] = np.cumsum(first) - 1
+        starts = np.flatnonzero(first)
+        self.edges = np.column_stack((lo[order][starts], hi[order][starts]))
+        self.corner_order = corners[order]                # corners grouped by edge
+        self.corner_starts = np.append(starts, len(order))
+        self.face_of_corner = polys.face_of_corner()
+        self.forward = a < b        # the corner's edge runs lo -> hi
+        self.index = {(int(p), int(q)): i for i, (p, q) in enumerate(self.edges.tolist())}
+
+    def __len__(self):
+        return len(self.edges)
+
+    def corners_of(self, e):
+        return self.corner_order[self.corner_starts[e]:self.corner_starts[e + 1]]
+
+    def lookup(self, u, v):
+        return self.index.get((u, v) if u < v else (v, u), -1)
+
+
+def face_adjacency(polys, edges, face_mask, break_edge_ids):
+    """For each face, the (neighbour, edge) pairs a region may cross."""
+    neighbours = [[] for _ in range(len(polys))]
+    counts = np.diff(edges.corner_starts)
+    for e in np.flatnonzero(counts == 2).tolist():
+        if e in break_edge_ids:
+            continue
+        c1, c2 = edges.corners_of(e).tolist()
+        f1, f2 = int(edges.face_of_corner[c1]), int(edges.face_of_corner[c2])
+        if f1 == f2 or not (face_mask[f1] and face_mask[f2]):
+            continue
+        if edges.forward[c1] == edges.forward[c2]:
+            continue            # the faces disagree in orientation
+        neighbours[f1].append((f2, e))
+        neighbours[f2].append((f1, e))
+    return neighbours
+
+
+def find_regions(vertices, polys, *, face_mask, flat_angle, flat_distance, break_edge_ids,
+                 edges=None):
+    """Group the masked faces into flat regions.  Returns (regions, region_of_face)."""
+    edges = edges or EdgeTable(polys, len(vertices))
+    newell = newell_normals(vertices, polys)
+    length = np.linalg.norm(newell, axis=1)
+    unit = np.where(length[:, None] > 0, newell / np.where(length > 0, length, 1.0)[:, None], 0.0)
+    area = 0.5 * length
+    neighbours = face_adjacency(polys, edges, face_mask, break_edge_ids)
+    cos_limit = math.cos(math.radians(flat_angle))
+    noise_floor = FLOAT32_NOISE * float(np.abs(vertices).max(initial=0.0))
+    starts, corners = polys.starts, polys.corners
+    face_points = [vertices[corners[starts[f]:starts[f + 1]]] for f in range(len(polys))]
+    longest = np.array([_longest_edge(p) for p in face_points])
+    region_of_face = np.full(len(polys), -1, dtype=np.int64)
+    regions = []
+    for seed in np.argsort(-area, kind="stable").tolist():
+        if not face_mask[seed] or region_of_face[seed] >= 0:
+            continue
+        rid = len(regions)
+        normal = unit[seed] if length[seed] > 0 else np.array([0.0, 0.0, 1.0])
+        origin = face_points[seed].mean(axis=0)
+        lo = face_points[seed].min(axis=0)
+        hi = face_points[seed].max(axis=0)
+        members = [seed]
+        region_of_face[seed] = rid
+        queue = [seed]
+        while queue:
+            f = queue.pop()
+            for g, _e in neighbours[f]:
+                if region_of_face[g] >= 0:
+                    continue
+                pts = face_points[g]
+                glo = np.minimum(lo, pts.min(axis=0))
+                ghi = np.maximum(hi, pts.max(axis=0))
+                tol = flat_distance if flat_distance is not None else \
+                    RELATIVE_FLATNESS * float(np.linalg.norm(ghi - glo)) + noise_floor
+                dist = np.abs((pts - origin) @ normal).max()
+                if dist > tol:
+                    continue
+                if length[g] > 0:
+                    if unit[g] @ normal <= 0:
+                        continue            # coplanar but facing the other way
+                    height = 2.0 * area[g] / max(longest[g], 1e-300)
+                    noisy = height <= 1000.0 * (noise_floor + 1e-300)
+                    if not noisy and (unit[g] @ normal < cos_limit or unit[g] @ unit[f] < cos_limit):
+                        continue
+                region_of_face[g] = rid
+                members.append(g)
+                queue.append(g)
+                lo, hi = glo, ghi
+        total = newell[members].sum(axis=0)
+        norm = np.linalg.norm(total)
+        fitted = total / norm if norm > 0 else normal
+        weights = area[members]
+        centroids = np.array([face_points[f].mean(axis=0) for f in members])
+        origin_fit = (centroids * weights[:, None]).sum(axis=0) / weights.sum() \
+            if weights.sum() > 0 else centroids.mean(axis=0)
+        vids = np.unique(np.concatenate([corners[starts[f]:starts[f + 1]] for f in members]))
+        deviation = float(np.abs((vertices[vids] - origin_fit) @ fitted).max())
+        tol = flat_distance if flat_distance is not None else \
+            RELATIVE_FLATNESS * float(np.linalg.norm(hi - lo)) + noise_floor
+        regions.append(Region(faces=sorted(members), normal=fitted, origin=origin_fit,
+                              tolerance=tol, deviation=deviation))
+    return regions, region_of_face
+
+
+def _longest_edge(pts):
+    d = np.roll(pts, -1, axis=0) - pts
+    return float(np.sqrt((d * d).sum(axis=1)).max())
