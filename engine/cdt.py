@@ -12,6 +12,7 @@ import numpy as np
 
 from .constraints import SegmentInserter
 from .delaunay import build_delaunay
+from .mesh import int_array
 from .regions import FILL_RULES, kept_triangles
 from .triangulation import Triangulation
 
@@ -94,6 +95,45 @@ def group_segments(mapped):
                     net[order].tolist(), count[order].tolist()))
 
 
+def mark_existing_edges(mesh, inserter, rows):
+    """Mark, in bulk, the segments that already are edges of the Delaunay
+    mesh (most of them for densely sampled outlines); return the other rows."""
+    if not rows:
+        return rows
+    seg = np.array([r[:2] for r in rows], dtype=np.int64)
+    tv = int_array(mesh.tv)
+    corners = np.arange(len(tv))
+    k = corners % 3
+    u = tv[corners - k + (k + 1) % 3]
+    v = tv[corners - k + (k + 2) % 3]
+    ok = (u >= 0) & (v >= 0)
+    width = len(mesh.x) + 1
+    codes = u[ok] * width + v[ok]
+    order = np.argsort(codes)
+    sorted_codes = codes[order]
+    query = seg[:, 0] * width + seg[:, 1]
+    pos = np.minimum(np.searchsorted(sorted_codes, query), len(sorted_codes) - 1)
+    found = sorted_codes[pos] == query
+    corner_of = corners[ok][order][pos].tolist()
+    found = found.tolist()
+    tc, tn = mesh.tc, mesh.tn
+    info = mesh.constraint_info
+    carrier = inserter.carrier
+    rest = []
+    for i, row in enumerate(rows):
+        a, b, source, net, count = row
+        carrier.setdefault(source, (a, b))
+        if not found[i]:
+            rest.append(row)
+            continue
+        c = corner_of[i]
+        tc[c] = 1
+        tc[tn[c]] = 1
+        key = (a, b) if a < b else (b, a)
+        info[key] = [source, net if a < b else -net, count]
+    return rest
+
+
 def triangulate(points, segments=None, *, holes=None, fill=None):
     """Constrained Delaunay triangulation of `points` with constraint `segments`.
 
@@ -128,7 +168,8 @@ def triangulate(points, segments=None, *, holes=None, fill=None):
     ys = pts[:, 1].tolist()
     mesh = build_delaunay(xs, ys, distinct.tolist())
     inserter = SegmentInserter(mesh)
-    for a, b, source, net, count in group_segments(merged[segs] if len(segs) else segs):
+    rows = group_segments(merged[segs] if len(segs) else segs)
+    for a, b, source, net, count in mark_existing_edges(mesh, inserter, rows):
         inserter.insert(a, b, source, net, count)
     kept = kept_triangles(mesh, fill, hole_pts.tolist())
     result = mesh_to_triangulation(mesh, kept, merged)
@@ -141,15 +182,15 @@ def mesh_to_triangulation(mesh, kept, merged_into):
     tv, tn = mesh.tv, mesh.tn
     kept = np.asarray(kept, dtype=np.int64)
     slots = len(mesh.mark)
-    tv_arr = np.asarray(tv, dtype=np.int64).reshape(slots, 3)
-    tn_arr = np.asarray(tn, dtype=np.int64).reshape(slots, 3)
+    tv_arr = int_array(tv).reshape(slots, 3)
+    tn_arr = int_array(tn).reshape(slots, 3)
     new_index = np.full(slots + 1, -1, dtype=np.int64)
     new_index[kept] = np.arange(len(kept))
     triangles = tv_arr[kept]
     nb = tn_arr[kept]
     neighbors = np.where(nb >= 0, new_index[nb // 3], -1)
     # constrained edges next to a kept triangle
-    tc_arr = np.asarray(mesh.tc, dtype=bool).reshape(slots, 3)[kept]
+    tc_arr = int_array(mesh.tc).reshape(slots, 3)[kept] != 0
     rows, ks = np.nonzero(tc_arr)
     u = triangles[rows, (ks + 1) % 3]
     v = triangles[rows, (ks + 2) % 3]

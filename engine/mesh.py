@@ -29,6 +29,10 @@ Every geometric decision goes through the exact-sign predicates of
 :mod:`engine.predicates` (float filter, exact fallback), inlined in the hot loops.
 """
 
+from array import array
+
+import numpy as np
+
 from .predicates import (CCW_BOUND, INCIRCLE_BOUND, INCIRCLE_LOOSE, incircle, incircle_exact,
                          orient2d, orient2d_exact)
 
@@ -39,6 +43,11 @@ PREV = (2, 0, 1)
 # (corner, offset of the edge's first vertex, offset of its second), three rotations
 _WALK_ORDERS = tuple(tuple((k, NEXT[k], PREV[k]) for k in (r, NEXT[r], PREV[r]))
                      for r in range(3))
+
+
+def int_array(values):
+    """A list of Python ints as an int64 numpy array (much faster than np.asarray)."""
+    return np.frombuffer(array("q", values), dtype=np.int64)
 
 
 def next_corner(c):

@@ -19,7 +19,9 @@ import heapq
 import math
 from collections import defaultdict, deque
 
-from .mesh import NEXT, PREV
+import numpy as np
+
+from .mesh import NEXT, PREV, int_array
 
 FILL_RULES = ("hull", "even-odd", "nonzero")
 
@@ -66,6 +68,8 @@ def _drop_chords(mesh, weights, degree, by_vertex):
     stays a constraint but bounds nothing."""
     x, y = mesh.x, mesh.y
     odd = {v for v, d in degree.items() if d % 2 == 1}
+    if not odd:
+        return
     graph = {v: [k for k in keys if k in weights] for v, keys in by_vertex.items()}
     toggled = set()
     while odd:
@@ -99,57 +103,105 @@ def _drop_chords(mesh, weights, degree, by_vertex):
         del weights[key]
 
 
+def components(mesh):
+    """Label every live triangle slot (ghosts included) by its connected
+    component across edges that are not constraints; returns (labels array
+    over slots, live mask).  Vectorised hooking and pointer jumping in the
+    manner of Shiloach and Vishkin (J. Algorithms 3(1), 1982)."""
+    tv = int_array(mesh.tv).reshape(-1, 3)
+    tn = int_array(mesh.tn)
+    tc = int_array(mesh.tc)
+    slots = len(tv)
+    live = tv[:, 0] != -2
+    real = (tv >= 0).all(axis=1)
+    label = np.arange(slots, dtype=np.int64)
+    corner = np.flatnonzero((tc == 0) & (tn >= 0) & np.repeat(live, 3))
+    a = corner // 3
+    b = tn[corner] // 3
+    keep = (a < b) & (real[a] == real[b])    # hull edges separate real from ghost
+    a, b = a[keep], b[keep]
+    while True:
+        la, lb = label[a], label[b]
+        differ = la != lb
+        if not differ.any():
+            break
+        hi = np.maximum(la[differ], lb[differ])
+        lo = np.minimum(la[differ], lb[differ])
+        np.minimum.at(label, hi, lo)
+        while True:                      # pointer jumping to the roots
+            nxt = label[label]
+            if np.array_equal(nxt, label):
+                break
+            label = nxt
+    return label, live
+
+
 def kept_triangles(mesh, fill, hole_points=()):
     """Slots of the real triangles the fill rule and hole seeds keep.
 
     Raises ValueError when the segment loops give no consistent fill (for
     example a "nonzero" fill whose loops are not consistently directed)."""
-    tv, tn, tc = mesh.tv, mesh.tn, mesh.tc
-    real = mesh.real_triangles()
+    tv_list, tn_list = mesh.tv, mesh.tn
+    tv = int_array(tv_list).reshape(-1, 3)
+    real = (tv >= 0).all(axis=1)
+    ghost = (tv[:, 0] != -2) & ~real
+    label, _live = components(mesh)
     if fill == "hull":
-        kept = set(real)
+        keep_label = None
     else:
         weights = _bounding_weights(mesh, fill)
         nonzero = fill == "nonzero"
-        slots = len(mesh.mark)
-        unset = -(1 << 62)
-        value = [unset] * slots
-        queue = []
-        for t in range(slots):
-            b = 3 * t
-            if tv[b] != -2 and (tv[b] < 0 or tv[b + 1] < 0 or tv[b + 2] < 0):
-                value[t] = 0
-                queue.append(t)
+        # component adjacency across constraints, with the change of winding
+        tc = int_array(mesh.tc)
+        tn = int_array(tn_list)
+        real3 = np.repeat(real, 3)
+        cons = np.flatnonzero(((tc != 0) | (real3 != real3[np.maximum(tn, 0) // 3 * 3]))
+                              & (tn >= 0) & np.repeat(real | ghost, 3))
+        flat = tv.ravel()
+        k = cons % 3
+        base = cons - k
+        p = flat[base + (k + 1) % 3]
+        q = flat[base + (k + 2) % 3]
+        lo, hi = np.minimum(p, q), np.maximum(p, q)
+        wt = np.zeros(len(cons), dtype=np.int64)
+        if weights:
+            keys = np.array(list(weights.keys()), dtype=np.int64).reshape(-1, 2)
+            vals = np.array(list(weights.values()), dtype=np.int64)
+            width = int(max(keys.max(), flat.max())) + 2
+            codes = keys[:, 0] * width + keys[:, 1]
+            order = np.argsort(codes)
+            codes, vals = codes[order], vals[order]
+            query = lo * width + hi
+            pos = np.minimum(np.searchsorted(codes, query), len(codes) - 1)
+            hit = (codes[pos] == query) & (tc[cons] != 0)
+            wt = np.where(hit, vals[pos], 0)
+        if nonzero:
+            delta = -np.where(p < q, wt, -wt)        # leaving the left side of p -> q
+        else:
+            delta = (wt != 0).astype(np.int64)
+        la = label[cons // 3]
+        lb = label[tn[cons] // 3]
+        table, first = np.unique(np.column_stack((la, lb, delta)), axis=0, return_index=True)
+        links = {}
+        for (a, b, d), i in zip(table.tolist(), first.tolist()):
+            links.setdefault(a, []).append((b, d, int(p[i]), int(q[i])))
+        value = {}
+        queue = deque()
+        for lab in np.unique(label[ghost]).tolist():
+            value[lab] = 0
+            queue.append(lab)
         conflict = None
-        head = 0
-        while head < len(queue):
-            t = queue[head]
-            head += 1
-            w = value[t]
-            b = 3 * t
-            for c in (b, b + 1, b + 2):
-                oc = tn[c]
-                if oc < 0:
-                    continue
-                u = oc // 3
-                nw = w
-                if tc[c]:
-                    k = c - b
-                    p, q = tv[b + NEXT[k]], tv[b + PREV[k]]
-                    wt = weights.get((p, q) if p < q else (q, p), 0)
-                    if wt:
-                        if nonzero:
-                            # leaving the left side of p -> q
-                            nw = w - (wt if p < q else -wt)
-                        else:
-                            nw = w ^ 1
-                old = value[u]
-                if old == unset:
-                    value[u] = nw
-                    queue.append(u)
+        while queue:
+            lab = queue.popleft()
+            w = value[lab]
+            for other, delta, p, q in links.get(lab, ()):
+                nw = (w + delta) % 2 if not nonzero else w + delta
+                old = value.get(other)
+                if old is None:
+                    value[other] = nw
+                    queue.append(other)
                 elif old != nw and conflict is None:
-                    k = c - b
-                    conflict = (tv[b + NEXT[k]], tv[b + PREV[k]])
+                    conflict = (p, q)
         if conflict is not None:
             p, q = conflict
             raise ValueError(
@@ -158,20 +210,12 @@ def kept_triangles(mesh, fill, hole_points=()):
                 f"({mesh.x[q]}, {mesh.y[q]})): loops must be closed"
                 + (" and consistently directed" if fill == "nonzero" else "")
                 + ", or use fill='hull' with hole seeds")
-        kept = {t for t in real if value[t] != 0 and value[t] != unset}
+        keep_label = {lab for lab, w in value.items() if w != 0}
+    kept_mask = real.copy()
+    if keep_label is not None:
+        kept_mask &= np.isin(label, np.fromiter(keep_label, dtype=np.int64, count=len(keep_label)))
     for hx, hy in hole_points:
         t = mesh.locate(hx, hy)
-        if t not in kept:
-            continue
-        stack = [t]
-        kept.discard(t)
-        while stack:
-            s = stack.pop()
-            for c in (3 * s, 3 * s + 1, 3 * s + 2):
-                if tc[c] or tn[c] < 0:
-                    continue
-                u = tn[c] // 3
-                if u in kept:
-                    kept.discard(u)
-                    stack.append(u)
-    return sorted(kept)
+        if kept_mask[t]:
+            kept_mask &= label != label[t]
+    return np.flatnonzero(kept_mask).tolist()

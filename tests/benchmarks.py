@@ -504,6 +504,72 @@ def case_cdt_outline_20k(ctx: Context) -> Row:
     )
 
 
+@register(
+    "refine-outline-100k",
+    bar=3.0,
+    repeat=1,
+    about="refinement to 30 degrees of a 2k-vertex lake shore with four islands to "
+    "~100k triangles vs scipy Delaunay (Qhull) of the same output points",
+)
+def case_refine_outline_100k(ctx: Context) -> Row:
+    import shapely
+    from scipy.spatial import Delaunay
+
+    n_shore, n_hole = 1_600, 100
+    max_area = 0.05 if ctx.quick else 0.005
+    shell, holes, pts, segs = lake_shore(ctx.rng(n_shore), n_shore, n_hole)
+    poly = shapely.Polygon(shell, holes)
+    if not poly.is_valid:
+        raise RuntimeError("generated lake shore polygon is not valid")
+    base = ctx.engine.triangulate(pts, segs)        # input preparation, not timed
+    refine = ctx.engine.refine
+
+    # warm-up on a tiny input
+    small_shell, small_holes, small_pts, small_segs = lake_shore(ctx.rng(1), 64, 16)
+    small = ctx.engine.triangulate(small_pts, small_segs)
+    Delaunay(refine(small, min_angle=30.0).points)
+
+    ours_s, out = ctx.time_best(lambda: refine(base, min_angle=30.0, max_area=max_area))
+    ref_s, ref = ctx.time_best(lambda: Delaunay(out.points))
+
+    p, t = _triangulation_arrays(out)
+    ok, msgs = check_triangulation(p, t, expected_area=float(poly.area),
+                                   required_edges=np.asarray(out.segments))
+    q = ctx.engine.quality(p, t)
+    if q.min_angle < 30.0:
+        ok = False
+        msgs.append(f"smallest angle {q.min_angle:.2f} < 30")
+    if not out.complete:
+        ok = False
+        msgs.append(f"incomplete: {out.stop_reason}")
+    plain = refine(base, min_angle=30.0, max_area=max_area, off_centers=False)
+    loose = refine(base, min_angle=30.0)
+    loose_plain = refine(base, min_angle=30.0, off_centers=False)
+    added = out.stats["added_points"]
+    notes = [
+        f"{len(t)} triangles, {len(p)} points ({added} added), smallest angle "
+        f"{q.min_angle:.2f} (before {out.stats['min_angle_before']:.2f}), "
+        f"Qhull made {len(ref.simplices)} triangles of the same points",
+        f"speed: {added / ours_s:,.0f} added points per second",
+        f"Steiner points with / without off-centers: {added} / "
+        f"{plain.stats['added_points']} with max_area={max_area}; "
+        f"{loose.stats['added_points']} / {loose_plain.stats['added_points']} "
+        "with the angle alone",
+    ]
+    del ref, plain, loose, loose_plain
+    peak = ctx.peak_memory(lambda: refine(base, min_angle=30.0, max_area=max_area))
+    return ctx.row(
+        size=f"{len(pts)} v -> {len(t)} tris",
+        ours_s=ours_s,
+        ref_s=ref_s,
+        reference="scipy Delaunay (Qhull) of the output points",
+        peak_mib=peak,
+        valid=ok,
+        check="; ".join(msgs),
+        notes=notes,
+    )
+
+
 # --------------------------------------------------------------------------
 # running and printing
 # --------------------------------------------------------------------------
