@@ -59,7 +59,7 @@ use the exact Python-integer predicates of :mod:`engine.predicates`.
 import numpy as np
 
 from .mesh import GHOST, Mesh
-from .ordering import brio_order
+from .ordering import hilbert_keys
 from .predicates import CCW_BOUND, INCIRCLE_BOUND, incircle_exact, orient2d_exact
 
 _SPLITTER = 134217729.0            # 2**27 + 1 (Dekker's split)
@@ -292,6 +292,7 @@ class _Builder:
         self.N = np.full(3 * cap, -1, dtype=np.int64)
         self.remap = np.arange(3 * cap, dtype=np.int64)
         self.owner = np.zeros(cap, dtype=np.int64)
+        self.best = np.full(cap, _BIG, dtype=np.int64)
         self.claim = np.full(cap, _BIG, dtype=np.int64)
         self.changed = np.zeros(cap, dtype=bool)
         self.child = np.zeros(cap, dtype=np.int64)
@@ -304,6 +305,8 @@ class _Builder:
         self.priority = priority
         self.flips = 0
         self.rounds = 0
+        self.flip_rounds = 0
+        self.pending = np.zeros(0, dtype=np.int64)
 
     # ---------------------------------------------------------- geometry
     def orient(self, a, b, c):
@@ -368,9 +371,10 @@ class _Builder:
         wt = lo - 1
         self.wq = rest
         self.wt = wt
+        self.wk = self.keys[rest]
         self.ws = self.strictly_inside(wt, rest)
-        # initial legalisation of the fan
-        self.legalize(np.arange(3 * f, dtype=np.int64))
+        # the fan is legalised together with the first insertions
+        self.pending = np.arange(3 * f, dtype=np.int64)
 
     # -------------------------------------------------------------- rounds
     def insert_round(self):
@@ -381,9 +385,12 @@ class _Builder:
         self.rounds += 1
         wt, wq = self.wt, self.wq
         tt = wt[cand]
-        owner = self.owner
-        owner[tt] = cand                 # one candidate per triangle survives
-        chosen = cand[owner[tt] == cand]
+        # one point per triangle: the waiting one with the smallest random key
+        key = self.wk[cand]
+        best = self.best
+        np.minimum.at(best, tt, key)
+        chosen = cand[best[tt] == key]
+        best[tt] = _BIG
         t = wt[chosen]
         p = wq[chosen]
         k = len(t)
@@ -432,10 +439,14 @@ class _Builder:
         wq = wq[keep]
         wt = wt[keep]
         ws = ws[keep]
+        self.wk = self.wk[keep]
         changed = self.changed
         changed[t] = True
         self.child[t] = t1
         mv = np.flatnonzero(changed[wt])
+        pend = self.pending
+        if len(pend):                      # suspects in split triangles are re-added below
+            pend = pend[~changed[pend // 3]]
         changed[t] = False
         if len(mv):
             tt = wt[mv]
@@ -465,13 +476,30 @@ class _Builder:
             wt[mv] = newt
             ws[mv] = ns
         self.wq, self.wt, self.ws = wq, wt, ws
-        self.legalize(np.concatenate((b + 2, c1 + 2, c2 + 2)))
+        self.pending = self.legalize(np.concatenate((pend, b + 2, c1 + 2, c2 + 2)),
+                                     self.flip_limit)
         return True
 
-    def legalize(self, sus):
+    def run(self):
+        while True:
+            if self.insert_round():
+                continue
+            if not len(self.pending):
+                return
+            self.pending = self.legalize(self.pending, None)
+
+    def legalize(self, sus, limit):
+        """Lawson flips from the suspect corners `sus`; stops after `limit`
+        flip rounds (None: until no suspect is illegal) and returns the
+        corners still to check."""
         V, N, X, Y = self.V, self.N, self.X, self.Y
         claim, changed, rm, dedup = self.claim, self.changed, self.remap, self.dedup
+        done = 0
         while len(sus):
+            if limit is not None and done >= limit:
+                return sus
+            done += 1
+            self.flip_rounds += 1
             oc = N[sus]
             k3 = sus % 3
             base = sus - k3
@@ -571,15 +599,13 @@ class _Builder:
             # next suspects: losers untouched by this round's flips, and the
             # four outer edges of every flipped pair
             ls = sus[lose]
-            lo_ = oc_all = None
             if len(ls):
-                lo_ = N[ls]           # N of untouched corners is unchanged
-                keep = ~(changed[ls // 3] | changed[lo_ // 3])
-                ls = ls[keep]
+                lt = N[ls] // 3       # pointers of untouched corners did not change
+                ls = ls[~(changed[ls // 3] | changed[lt])]
             changed[t] = False
             changed[u] = False
             sus = np.concatenate((ls, bt, bt + 2, bu, bu + 2))
-            del lo_, oc_all
+        return sus[:0]
 
 
 def _to_mesh(xs, ys, idx, V, N, ntri):
@@ -602,7 +628,7 @@ def _to_mesh(xs, ys, idx, V, N, ntri):
     return mesh
 
 
-def bulk_delaunay(xs, ys, indices, seed=0, stats=None):
+def bulk_delaunay(xs, ys, indices, seed=0, stats=None, flip_limit=4):
     """Delaunay triangulation of the distinct points `indices` of the
     coordinate sequences xs, ys, built by array rounds.  Returns a ghost-closed
     Mesh over all of xs, ys, like :func:`engine.delaunay.build_delaunay`.
@@ -616,24 +642,33 @@ def bulk_delaunay(xs, ys, indices, seed=0, stats=None):
     n = len(idx)
     if n < 3:
         raise ValueError("need at least three distinct, non-collinear points")
+    # work on the points relabelled along a Hilbert curve: neighbouring
+    # entries of every array then touch nearby memory
+    order = np.argsort(hilbert_keys(np.column_stack((X, Y))), kind="stable")
+    idx = idx[order]
+    X = np.ascontiguousarray(X[order])
+    Y = np.ascontiguousarray(Y[order])
     hull = convex_hull(X, Y)
     if len(hull) < 3:
         raise ValueError("need at least three distinct, non-collinear points")
-    order = brio_order(np.column_stack((X, Y)), seed=seed)
     on_hull = np.zeros(n, dtype=bool)
     on_hull[hull] = True
-    rest = order[~on_hull[order]][::-1]     # latest entry = first in BRIO order
+    rest = np.flatnonzero(~on_hull)
     b = _Builder(X, Y, None)
-    b.start(hull, np.ascontiguousarray(rest))
-    while b.insert_round():
-        pass
-    deferred = idx[b.wq[::-1]].tolist()
+    b.keys = np.random.default_rng(seed).permutation(n).astype(np.int64)
+    b.start(hull, rest)
+    b.flip_limit = flip_limit
+    b.run()
+    deferred = idx[b.wq]
+    if len(deferred) > 1:
+        deferred = deferred[np.random.default_rng(seed).permutation(len(deferred))]
+    deferred = deferred.tolist()
     mesh = _to_mesh(xs, ys, idx, b.V, b.N, b.ntri)
     x, y = mesh.x, mesh.y
     for p in deferred:
         t = mesh.locate(x[p], y[p])
         mesh.insert_vertex(p, t)
     if stats is not None:
-        stats.update(rounds=b.rounds, flips=b.flips, sequential=len(deferred),
+        stats.update(rounds=b.rounds, flips=b.flips, flip_rounds=b.flip_rounds, sequential=len(deferred),
                      hull=len(hull))
     return mesh

@@ -119,6 +119,10 @@ def find_regions(vertices, polys, *, face_mask, flat_angle, flat_distance, break
     starts, corners = polys.starts, polys.corners
     face_points = [vertices[corners[starts[f]:starts[f + 1]]] for f in range(len(polys))]
     longest = np.array([_longest_edge(p) for p in face_points])
+    # faces whose normal is rounding noise (zero-area faces, float32 slivers)
+    # join on the distance test alone
+    height = 2.0 * area / np.maximum(longest, 1e-300)
+    noisy = (length == 0) | (height <= 1000.0 * (noise_floor + 1e-300))
     region_of_face = np.full(len(polys), -1, dtype=np.int64)
     regions = []
     for seed in np.argsort(-area, kind="stable").tolist():
@@ -145,12 +149,12 @@ def find_regions(vertices, polys, *, face_mask, flat_angle, flat_distance, break
                 dist = np.abs((pts - origin) @ normal).max()
                 if dist > tol:
                     continue
-                if length[g] > 0:
+                if not noisy[g]:
                     if unit[g] @ normal <= 0:
                         continue            # coplanar but facing the other way
-                    height = 2.0 * area[g] / max(longest[g], 1e-300)
-                    noisy = height <= 1000.0 * (noise_floor + 1e-300)
-                    if not noisy and (unit[g] @ normal < cos_limit or unit[g] @ unit[f] < cos_limit):
+                    if unit[g] @ normal < cos_limit:
+                        continue
+                    if not noisy[f] and unit[g] @ unit[f] < cos_limit:
                         continue
                 region_of_face[g] = rid
                 members.append(g)

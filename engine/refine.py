@@ -119,7 +119,7 @@ def _check_options(min_angle, max_area, max_edge, max_points, encroachment, size
 
 def refine(tri, *, min_angle=30.0, max_area=None, max_edge=None, keep_boundary=False,
            max_points=None, off_centers=True, encroachment="lens", size_growth=None,
-           smoothing=False, smoothing_passes=4):
+           smoothing=False, smoothing_passes=4, fixed_segments=None):
     """Refine a :class:`Triangulation` (from :func:`engine.triangulate`) by
     adding Steiner points.  Returns a new Triangulation; the input is not changed.
 
@@ -147,6 +147,9 @@ def refine(tri, *, min_angle=30.0, max_area=None, max_edge=None, keep_boundary=F
                      update), keeping a move only where it raises the local
                      smallest angle, then restore the Delaunay property.
     smoothing_passes number of sweeps over the vertices when smoothing.
+    fixed_segments   (K, 2) point-index pairs: segments (or border edges) that
+                     must not be split, as with keep_boundary but for these
+                     edges only (e.g. an outline shared with a finished mesh).
 
     Border edges of the region that are not segments act as segments.  Added
     points come after the existing ones; pieces of split segments keep their
@@ -161,6 +164,14 @@ def refine(tri, *, min_angle=30.0, max_area=None, max_edge=None, keep_boundary=F
     ref = _Refiner(tri, min_angle, max_area, max_edge, bool(keep_boundary),
                    DEFAULT_POINT_CAP if max_points is None else int(max_points),
                    bool(off_centers), encroachment, size_growth)
+    if fixed_segments is not None and len(fixed_segments):
+        fixed = np.asarray(fixed_segments)
+        if fixed.ndim != 2 or fixed.shape[1] != 2:
+            raise ValueError(f"fixed_segments must have shape (K, 2), got {fixed.shape}")
+        if fixed.min() < 0 or fixed.max() >= len(tri.points):
+            raise ValueError("fixed_segments use a point index out of range")
+        for a, b in fixed.astype(np.int64).tolist():
+            ref.unsplittable.add((a, b) if a < b else (b, a))
     ref.run()
     if smoothing and smoothing_passes:
         ref.smooth(smoothing_passes)

@@ -97,8 +97,11 @@ def remesh_flat_regions(vertices, faces, *, face_mask=None, flat_angle=1.0, flat
         builder.dropped_border = straight_run_vertices(
             verts, polys, edges, region_of_face, regions, break_ids,
             float(straighten_tolerance), usable_regions=usable)
-    for rid, region in enumerate(regions):
-        builder.remesh_region(rid, region, options)
+    # thin regions first: an edge shared by two regions is split by the first
+    # one and fixed for the second, and a wide region adapts to a thin
+    # neighbour's split points far better than the other way round
+    for rid in sorted(range(len(regions)), key=lambda r: builder.region_area(regions[r])):
+        builder.remesh_region(rid, regions[rid], options)
     return builder.finish()
 
 
@@ -166,6 +169,8 @@ class _EditBuilder:
         self.on_edge = {}            # new vertex -> (edge id, t from lo to hi)
         self.edge_splits = {}        # edge id -> [(t, new vertex)]
         self.new_faces = []          # lists of vertex ids
+        self.new_face_region = []    # report index of the region each came from
+        self.settled = set()         # outline edge keys of regions already changed
         self.new_face_source = []
         self.new_corner_weights = []  # per new face: per corner [(original corner, w)]
         self.replaced = set()
@@ -231,6 +236,8 @@ class _EditBuilder:
         """Remesh one region (options None: only run the checks)."""
         polys, edges, nxt = self.polys, self.edges, self.next_of
         faces = region.faces
+        if self._degenerate(faces):
+            raise RegionSkipped("degenerate: the faces have no area")
         if region.deviation > region.tolerance * 1.000001:
             raise RegionSkipped(f"not flat within tolerance (deviation {region.deviation:.3g} "
                                 f"> {region.tolerance:.3g})")
@@ -309,7 +316,10 @@ class _EditBuilder:
         before = self._quality_before(face_tris, proj)
         refined = tri
         if _refine is not None:
-            refined = _refine(tri, **{k: v for k, v in options.items() if v is not None})
+            fixed = [segments[i] for i, keys in enumerate(segment_edge)
+                     if any(k in self.settled for k in keys)]
+            refined = _refine(tri, fixed_segments=np.array(fixed, dtype=np.int64).reshape(-1, 2),
+                              **{k: v for k, v in options.items() if v is not None})
         # ----- back to 3D
         n_in = len(point_ids)
         locator = _FaceLocator(face_tris, face_tri_corners, proj)
@@ -360,9 +370,12 @@ class _EditBuilder:
                 else:   # a new vertex of an earlier region inside this one: impossible
                     raise RegionSkipped("internal: vertex without source")
             self.new_faces.append(ids)
+            self.new_face_region.append(len(self.reports))
             self.new_face_source.append(f)
             self.new_corner_weights.append(weights)
         self.replaced.update(faces)
+        for keys in segment_edge:
+            self.settled.update(keys)
         self.dropped.update(v for v in interior if v not in set(kept_interior))
         self.dropped.update(dropping)
         after = quality(refined.points, refined.triangles)
@@ -372,6 +385,52 @@ class _EditBuilder:
             min_angle_before=before, min_angle_after=after.min_angle,
             added_points=int(len(out_pts) - n_in), complete=bool(refined.complete),
             reason=refined.stop_reason)
+
+    def region_area(self, region):
+        polys = self.polys
+        total = 0.0
+        for f in region.faces:
+            p = self.verts[polys.face(f)]
+            total += 0.5 * float(np.linalg.norm(np.cross(p - p[0], np.roll(p, -1, axis=0) - p[0])
+                                                .sum(axis=0)))
+        return total
+
+    def _degenerate(self, faces):
+        """True when the faces' total area is nil next to their extent."""
+        polys = self.polys
+        pts = [self.verts[polys.face(f)] for f in faces]
+        span = np.ptp(np.vstack(pts), axis=0).max()
+        area = 0.0
+        for p in pts:
+            cross = np.cross(p - p[0], np.roll(p, -1, axis=0) - p[0]).sum(axis=0)
+            area += 0.5 * float(np.linalg.norm(cross))
+        return area <= 1e-12 * span * span
+
+    def _final_figures(self, out_faces, out_region, new_positions):
+        """Triangle counts and smallest angles of each changed region as
+        written (after points from neighbouring regions were added)."""
+        by_region = {}
+        for ids, rid in zip(out_faces, out_region):
+            if rid >= 0:
+                by_region.setdefault(rid, []).append(ids)
+        for rid, faces in by_region.items():
+            smallest = 180.0
+            triangles = 0
+            for ids in faces:
+                pts = np.array([self.verts[v] if v < self.n else new_positions[v - self.n]
+                                for v in ids])
+                triangles += len(ids) - 2
+                k = len(ids)
+                for i in range(k):
+                    a = pts[(i + 1) % k] - pts[i]
+                    b = pts[i - 1] - pts[i]
+                    cos = np.dot(a, b) / max(np.linalg.norm(a) * np.linalg.norm(b), 1e-300)
+                    angle = math.degrees(math.acos(min(1.0, max(-1.0, cos))))
+                    if angle < 179.999999:      # straight corners of grown polygons
+                        smallest = min(smallest, angle)
+            report = self.reports[rid]
+            report.triangles_after = triangles
+            report.min_angle_after = smallest
 
     def _outline_chains(self, border, dropping):
         """Border edges as chains of vertex ids (split points of earlier
@@ -478,17 +537,21 @@ class _EditBuilder:
             out_source.append(f)
             out_weights.append(new_w)
             self.replaced.add(f)
-        for ids, f, weights in zip(self.new_faces, self.new_face_source, self.new_corner_weights):
+        out_region = [-1] * len(out_faces)
+        for ids, f, weights, rid in zip(self.new_faces, self.new_face_source,
+                                        self.new_corner_weights, self.new_face_region):
             new_ids, new_w, slots = self._insert_splits(ids, weights)
             if len(new_ids) == 3:
                 out_faces.append(new_ids)
                 out_source.append(f)
                 out_weights.append(new_w)
+                out_region.append(rid)
                 continue
             for tri_ids, tri_w in _fan_from_clear_corner(new_ids, new_w, slots):
                 out_faces.append(tri_ids)
                 out_source.append(f)
                 out_weights.append(tri_w)
+                out_region.append(rid)
         vrows, crows = WeightRows(), WeightRows()
         for pairs in self.vweights:
             vrows.add(pairs)
@@ -507,6 +570,7 @@ class _EditBuilder:
                     used[x] = True
         dropped = np.array(sorted(v for v in self.dropped if not used[v]), dtype=np.int64)
         new_positions = np.array(self.new_positions, dtype=np.float64).reshape(-1, 3)
+        self._final_figures(out_faces, out_region, new_positions)
         return MeshEdit(
             vertex_count=self.n,
             replaced_faces=np.array(sorted(self.replaced), dtype=np.int64),
@@ -518,7 +582,7 @@ class _EditBuilder:
             face_source=np.array(out_source, dtype=np.int64),
             corner_weight_starts=cs_, corner_weight_indices=ci, corner_weight_values=cw,
             dropped_vertices=dropped,
-            regions=self.reports)
+            regions=sorted(self.reports, key=lambda r: r.region))
 
     def _param(self, x, e):
         lo, hi = self._ends(e)
