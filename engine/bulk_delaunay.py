@@ -24,18 +24,26 @@ Method
    two-dimensional Delaunay triangulation using graphics hardware", Proc.
    I3D 2008; M. Qi, T.-T. Cao, T.-S. Tan, "Computing 2D constrained Delaunay
    triangulation using the GPU", Proc. I3D 2012): every triangle that holds a
-   waiting point strictly inside takes one of them (1-to-3 split, all splits
-   of a round at once); the waiting points of split triangles move to one of
-   the three children by two or three orientation tests.  Then rounds of
-   Lawson flips (C. L. Lawson, "Software for C1 surface interpolation",
-   Mathematical Software III, 1977) on all suspect edges at once: the illegal
-   ones claim their two triangles with ``np.minimum.at`` (the smallest edge id
-   wins, so each round flips at least one edge and no triangle twice), the
-   winners flip, and their waiting points move across the new diagonal.
-   Simultaneous splits and flips keep neighbour pointers consistent through an
-   old-corner -> new-corner map that every changed triangle writes before the
-   pointers are rewritten.  Suspect edges are those of changed triangles, so
-   when no suspect edge is illegal the whole triangulation is Delaunay.
+   waiting point strictly inside takes the one with the smallest random key
+   (a randomised insertion order per triangle; 1-to-3 split, all splits of a
+   round at once); the waiting points of split triangles move to one of the
+   three children by two or three orientation tests.  Then rounds of Lawson
+   flips (C. L. Lawson, "Software for C1 surface interpolation", Mathematical
+   Software III, 1977) on all suspect edges at once: the illegal ones claim
+   their two triangles with ``np.minimum.at`` (the smallest edge id wins, so
+   each round flips at least one edge and no triangle twice), the winners
+   flip, and their waiting points move across the new diagonal.  Simultaneous
+   splits and flips keep neighbour pointers consistent through an old-corner
+   -> new-corner map that every changed triangle writes before the pointers
+   are rewritten.  Suspect edges are those of changed triangles, so when no
+   suspect edge is illegal the whole triangulation is Delaunay.  Only a few
+   flip rounds run after each insertion round; the remaining suspects are
+   carried into the next round (Lawson's algorithm ends in the Delaunay
+   triangulation from any triangulation, so insertion need not wait for it),
+   and a final flush empties them.  Long flip cascades then share rounds with
+   the insertions instead of running one flip per round at the end.
+   The points are relabelled along a Hilbert curve (:mod:`engine.ordering`)
+   so that neighbouring array entries touch nearby memory.
 4. Points that never became strictly interior to a triangle (they lie on an
    edge that stays Delaunay, e.g. collinear hull points or grid points) are
    inserted at the end by the sequential Bowyer-Watson code
@@ -282,7 +290,7 @@ def convex_hull(X, Y):
 # the builder
 # --------------------------------------------------------------------------
 class _Builder:
-    def __init__(self, X, Y, priority):
+    def __init__(self, X, Y, keys):
         self.X = X
         self.Y = Y
         n = len(X)
@@ -302,7 +310,7 @@ class _Builder:
         self.pair_u = np.zeros(cap, dtype=np.int64)
         self.dedup = np.zeros(3 * cap, dtype=np.int64)
         self.ntri = 0
-        self.priority = priority
+        self.keys = keys                 # random insertion priority of each point
         self.flips = 0
         self.rounds = 0
         self.flip_rounds = 0
@@ -654,20 +662,19 @@ def bulk_delaunay(xs, ys, indices, seed=0, stats=None, flip_limit=4):
     on_hull = np.zeros(n, dtype=bool)
     on_hull[hull] = True
     rest = np.flatnonzero(~on_hull)
-    b = _Builder(X, Y, None)
-    b.keys = np.random.default_rng(seed).permutation(n).astype(np.int64)
+    b = _Builder(X, Y, np.random.default_rng(seed).permutation(n).astype(np.int64))
     b.start(hull, rest)
     b.flip_limit = flip_limit
     b.run()
-    deferred = idx[b.wq]
-    if len(deferred) > 1:
-        deferred = deferred[np.random.default_rng(seed).permutation(len(deferred))]
-    deferred = deferred.tolist()
+    # points left on edges: sequential insertion in Hilbert order (b.wq is
+    # sorted), each walk starting from the slot the point was last seen in
+    deferred = idx[b.wq].tolist()
+    hints = b.wt.tolist()
     mesh = _to_mesh(xs, ys, idx, b.V, b.N, b.ntri)
     x, y = mesh.x, mesh.y
-    for p in deferred:
-        t = mesh.locate(x[p], y[p])
-        mesh.insert_vertex(p, t)
+    locate, insert = mesh.locate, mesh.insert_vertex
+    for p, t in zip(deferred, hints):
+        insert(p, locate(x[p], y[p], t))
     if stats is not None:
         stats.update(rounds=b.rounds, flips=b.flips, flip_rounds=b.flip_rounds, sequential=len(deferred),
                      hull=len(hull))

@@ -35,6 +35,7 @@ from .mesh_edit import MeshEdit, RegionReport, WeightRows
 from .polygons import PolygonList, check_mesh
 from .predicates import orient2d
 from .quality import quality
+from .ordering import hilbert_keys
 from .straighten import straight_run_vertices
 
 try:  # refinement lives in its own module
@@ -160,6 +161,7 @@ class _EditBuilder:
         self.keep_interior = keep_interior
         self.n = len(verts)
         self.next_of = polys.next_corner()
+        self.face_of_corner = polys.face_of_corner()
         self.faces_using_vertex = np.bincount(polys.corners, minlength=self.n)
         self.new_positions = []
         self.vweights = []           # per new vertex: [(original vertex, w)]
@@ -323,6 +325,7 @@ class _EditBuilder:
         # ----- back to 3D
         n_in = len(point_ids)
         locator = _FaceLocator(face_tris, face_tri_corners, proj)
+        polys_face_of = self.face_of_corner
         vid_of = list(point_ids)
         piece_edges = {}
         for (p, q), s in zip(refined.segments.tolist(), refined.segment_source.tolist()):
@@ -331,31 +334,40 @@ class _EditBuilder:
                     piece_edges[x] = segment_edge[s]
         out_pts = refined.points
         vertex_corner = {}
+        free = [i for i in range(n_in, len(out_pts)) if i not in piece_edges]
+        tri_of, bary = locator.locate_many(out_pts[free]) if free else (None, None)
+        where = {i: k for k, i in enumerate(free)}
+        tri_corner = locator.tri_corners
         for i in range(n_in, len(out_pts)):
-            px, py = out_pts[i]
             if i in piece_edges:
+                px, py = out_pts[i]
                 vid = self._point_on_edges(piece_edges[i], px, py, proj)
             else:
-                f, tri_corners, bary = locator.locate(px, py)
-                pos = sum(w * self.verts[cv[c]] for c, w in zip(tri_corners, bary))
-                pairs = [(int(cv[c]), w) for c, w in zip(tri_corners, bary)]
-                cpairs = [(int(c), w) for c, w in zip(tri_corners, bary)]
-                vid = self._add_vertex(pos, pairs, cpairs, f, (-1, -1))
+                k = where[i]
+                c0, c1, c2, f = tri_corner[tri_of[k]]
+                w0, w1, w2 = bary[k].tolist()
+                v0, v1, v2 = int(cv[c0]), int(cv[c1]), int(cv[c2])
+                pos = w0 * self.verts[v0] + w1 * self.verts[v1] + w2 * self.verts[v2]
+                cpairs = [(c0, w0), (c1, w1), (c2, w2)]
+                vid = self._add_vertex(pos, [(v0, w0), (v1, w1), (v2, w2)], cpairs, f, (-1, -1))
                 vertex_corner[vid] = cpairs
             vid_of.append(vid)
         region_corner_at = {}
+        face_corner = {}
         for c in corners.tolist():
-            region_corner_at.setdefault(int(cv[c]), c)
-        face_start = polys.starts
-        for a, b, c in refined.triangles.tolist():
+            v = int(cv[c])
+            region_corner_at.setdefault(v, c)
+            face_corner[(int(polys_face_of[c]), v)] = c
+        tris_out = refined.triangles
+        centroids = out_pts[tris_out].mean(axis=1)
+        cen_tri, _ = locator.locate_many(centroids)
+        for (a, b, c), t_index in zip(tris_out.tolist(), cen_tri.tolist()):
             ids = [vid_of[a], vid_of[b], vid_of[c]]
-            cx = (out_pts[a] + out_pts[b] + out_pts[c]) / 3.0
-            f, _, _ = locator.locate(cx[0], cx[1])
-            own = {int(cv[k]): k for k in range(face_start[f], face_start[f + 1])}
+            f = tri_corner[t_index][3]
             weights = []
             for x in ids:
                 if x < self.n:
-                    weights.append([(own.get(x, region_corner_at.get(x)), 1.0)])
+                    weights.append([(face_corner.get((f, x), region_corner_at.get(x)), 1.0)])
                 elif x in vertex_corner:
                     weights.append(vertex_corner[x])
                 elif x in self.on_edge:
@@ -409,28 +421,29 @@ class _EditBuilder:
     def _final_figures(self, out_faces, out_region, new_positions):
         """Triangle counts and smallest angles of each changed region as
         written (after points from neighbouring regions were added)."""
-        by_region = {}
-        for ids, rid in zip(out_faces, out_region):
-            if rid >= 0:
-                by_region.setdefault(rid, []).append(ids)
-        for rid, faces in by_region.items():
-            smallest = 180.0
-            triangles = 0
-            for ids in faces:
-                pts = np.array([self.verts[v] if v < self.n else new_positions[v - self.n]
-                                for v in ids])
-                triangles += len(ids) - 2
-                k = len(ids)
-                for i in range(k):
-                    a = pts[(i + 1) % k] - pts[i]
-                    b = pts[i - 1] - pts[i]
-                    cos = np.dot(a, b) / max(np.linalg.norm(a) * np.linalg.norm(b), 1e-300)
-                    angle = math.degrees(math.acos(min(1.0, max(-1.0, cos))))
-                    if angle < 179.999999:      # straight corners of grown polygons
-                        smallest = min(smallest, angle)
+        if not out_faces:
+            return
+        allv = np.vstack((self.verts, new_positions.reshape(-1, 3)))
+        sizes = np.array([len(f) for f in out_faces])
+        corners = np.fromiter((v for f in out_faces for v in f), dtype=np.int64,
+                              count=int(sizes.sum()))
+        starts = np.concatenate(([0], np.cumsum(sizes)))
+        face_of = np.repeat(np.arange(len(out_faces)), sizes)
+        pos = np.arange(len(corners))
+        nxt = np.where(pos + 1 == starts[face_of + 1], starts[face_of], pos + 1)
+        prv = np.where(pos == starts[face_of], starts[face_of + 1] - 1, pos - 1)
+        a = allv[corners[nxt]] - allv[corners]
+        b = allv[corners[prv]] - allv[corners]
+        cross = np.linalg.norm(np.cross(a, b), axis=1)
+        angle = np.degrees(np.arctan2(cross, (a * b).sum(axis=1)))
+        angle = np.where(angle < 179.999999, angle, 180.0)   # straight corners of grown faces
+        region = np.asarray(out_region, dtype=np.int64)
+        face_min = np.minimum.reduceat(angle, starts[:-1])
+        for rid in np.unique(region[region >= 0]).tolist():
+            mine = region == rid
             report = self.reports[rid]
-            report.triangles_after = triangles
-            report.min_angle_after = smallest
+            report.triangles_after = int((sizes[mine] - 2).sum())
+            report.min_angle_after = float(face_min[mine].min())
 
     def _outline_chains(self, border, dropping):
         """Border edges as chains of vertex ids (split points of earlier
@@ -678,6 +691,117 @@ class _FaceLocator:
                 self.mesh = mesh_from_triangles(self.pts, tris[self.good])
             except ValueError:
                 self.mesh = None
+
+    def locate_many(self, points):
+        """Containing triangle (index into the face triangles) and clamped
+        barycentric weights for many points at once: a uniform grid over the
+        region buckets the triangles; each point takes the candidate of its
+        cell with the largest smallest barycentric coordinate; points no
+        candidate contains fall back to the walk."""
+        pts = np.asarray(points, dtype=np.float64).reshape(-1, 2)
+        q = len(pts)
+        tri_of = np.full(q, -1, dtype=np.int64)
+        bary = np.zeros((q, 3))
+        good = self.good
+        if self.mesh is not None and q:
+            return self._walk_many(pts)
+        if q == 0 or len(good) == 0:
+            for i in range(q):
+                tri_of[i], bary[i] = self._locate_one(*pts[i])
+            return tri_of, bary
+        corners = self.pts[self.tris[good]]                      # (G, 3, 2)
+        lo = np.minimum(corners.min(axis=1).min(axis=0), pts.min(axis=0))
+        hi = np.maximum(corners.max(axis=1).max(axis=0), pts.max(axis=0))
+        size = max(1, min(512, int(math.sqrt(len(good))) + 1))
+        scale = size / np.maximum(hi - lo, 1e-300)
+        cmin = np.clip(((corners.min(axis=1) - lo) * scale).astype(np.int64), 0, size - 1)
+        cmax = np.clip(((corners.max(axis=1) - lo) * scale).astype(np.int64), 0, size - 1)
+        nx = cmax[:, 0] - cmin[:, 0] + 1
+        ny = cmax[:, 1] - cmin[:, 1] + 1
+        count = nx * ny
+        owner = np.repeat(np.arange(len(good)), count)
+        offset = np.arange(int(count.sum())) - np.repeat(np.cumsum(count) - count, count)
+        cx = cmin[owner, 0] + offset % nx[owner]
+        cy = cmin[owner, 1] + offset // nx[owner]
+        cell = cx * size + cy
+        order = np.argsort(cell, kind="stable")
+        cell_sorted, owner_sorted = cell[order], owner[order]
+        starts = np.searchsorted(cell_sorted, np.arange(size * size + 1))
+        qc = np.clip(((pts - lo) * scale).astype(np.int64), 0, size - 1)
+        qcell = qc[:, 0] * size + qc[:, 1]
+        per = starts[qcell + 1] - starts[qcell]
+        query = np.repeat(np.arange(q), per)
+        cand = owner_sorted[np.arange(int(per.sum())) - np.repeat(np.cumsum(per) - per, per)
+                            + np.repeat(starts[qcell], per)]
+        a, b, c = corners[cand, 0], corners[cand, 1], corners[cand, 2]
+        p = pts[query]
+        det = (b[:, 0] - a[:, 0]) * (c[:, 1] - a[:, 1]) - (b[:, 1] - a[:, 1]) * (c[:, 0] - a[:, 0])
+        wb = ((p[:, 0] - a[:, 0]) * (c[:, 1] - a[:, 1]) - (p[:, 1] - a[:, 1]) * (c[:, 0] - a[:, 0])) / det
+        wc = ((b[:, 0] - a[:, 0]) * (p[:, 1] - a[:, 1]) - (b[:, 1] - a[:, 1]) * (p[:, 0] - a[:, 0])) / det
+        wa = 1.0 - wb - wc
+        score = np.minimum(np.minimum(wa, wb), wc)
+        best = np.full(q, -np.inf)
+        np.maximum.at(best, query, score)
+        winner = np.flatnonzero(score == best[query])
+        chosen = np.full(q, -1, dtype=np.int64)
+        chosen[query[winner]] = winner
+        ok = (chosen >= 0) & (best >= -1e-9)
+        k = chosen[ok]
+        tri_of[ok] = good[cand[k]]
+        w = np.clip(np.column_stack((wa[k], wb[k], wc[k])), 0.0, None)
+        bary[ok] = w / w.sum(axis=1, keepdims=True)
+        for i in np.flatnonzero(~ok).tolist():
+            tri_of[i], bary[i] = self._locate_one(*pts[i])
+        return tri_of, bary
+
+    def _walk_many(self, pts):
+        """Locate points in Hilbert order, each walk starting where the
+        previous one ended (few steps between neighbouring points)."""
+        q = len(pts)
+        order = np.argsort(hilbert_keys(pts), kind="stable")
+        mesh = self.mesh
+        tv, x, y = mesh.tv, mesh.x, mesh.y
+        good = self.good.tolist()
+        slot = np.empty(q, dtype=np.int64)
+        xs, ys = pts[:, 0].tolist(), pts[:, 1].tolist()
+        fallback = []
+        for i in order.tolist():
+            px, py = xs[i], ys[i]
+            s = mesh.locate(px, py)
+            b = 3 * s
+            a0, a1, a2 = tv[b], tv[b + 1], tv[b + 2]
+            if (orient2d(x[a1], y[a1], x[a2], y[a2], px, py) < 0
+                    or orient2d(x[a2], y[a2], x[a0], y[a0], px, py) < 0
+                    or orient2d(x[a0], y[a0], x[a1], y[a1], px, py) < 0):
+                fallback.append(i)
+                slot[i] = -1
+            else:
+                slot[i] = good[s]
+        ok = slot >= 0
+        tri_of = slot.copy()
+        bary = np.zeros((q, 3))
+        t = tri_of[ok]
+        corners = self.pts[self.tris[t]]
+        a, b, c = corners[:, 0], corners[:, 1], corners[:, 2]
+        p = pts[ok]
+        det = (b[:, 0] - a[:, 0]) * (c[:, 1] - a[:, 1]) - (b[:, 1] - a[:, 1]) * (c[:, 0] - a[:, 0])
+        wb = ((p[:, 0] - a[:, 0]) * (c[:, 1] - a[:, 1]) - (p[:, 1] - a[:, 1]) * (c[:, 0] - a[:, 0])) / det
+        wc = ((b[:, 0] - a[:, 0]) * (p[:, 1] - a[:, 1]) - (b[:, 1] - a[:, 1]) * (p[:, 0] - a[:, 0])) / det
+        w = np.clip(np.column_stack((1.0 - wb - wc, wb, wc)), 0.0, None)
+        bary[ok] = w / w.sum(axis=1, keepdims=True)
+        for i in fallback:
+            tri_of[i], bary[i] = self._locate_one(*pts[i])
+        return tri_of, bary
+
+    def _locate_one(self, px, py):
+        t = None
+        if self.mesh is not None:
+            s = self.mesh.locate(px, py)
+            if self._inside(s, px, py):
+                t = int(self.good[s])
+        if t is None:
+            t = self._nearest(px, py)
+        return t, self._barycentric(t, px, py)
 
     def locate(self, px, py):
         """(face, (corner a, corner b, corner c), barycentric weights)."""
