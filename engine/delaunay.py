@@ -1,4 +1,5 @@
-"""Incremental Delaunay triangulation of a point set.
+"""Delaunay triangulation of a point set: the sequential builder, and the
+choice between it and the numpy bulk builder (:mod:`engine.bulk_delaunay`).
 
 Points are inserted one by one in BRIO order (:mod:`engine.ordering`) with
 the Bowyer-Watson cavity (:meth:`engine.mesh.Mesh.insert_vertex`) after a
@@ -33,10 +34,23 @@ def _first_triangle(xs, ys, order):
     return None
 
 
-def build_delaunay(xs, ys, indices, seed=0):
+# from this many points on, the numpy bulk builder is faster
+BULK_THRESHOLD = 1500
+
+
+def build_delaunay(xs, ys, indices, seed=0, method="auto"):
     """Delaunay triangulation of the points `indices` (distinct, as a list)
     of the coordinate lists xs, ys.  Returns a Mesh over all of xs, ys (other
-    points stay unused).  Raises ValueError when the points are collinear."""
+    points stay unused).  Raises ValueError when the points are collinear.
+
+    method: "sequential" (one point at a time, below), "bulk" (numpy rounds,
+    :mod:`engine.bulk_delaunay`) or "auto" (bulk from BULK_THRESHOLD points).
+    Both give the same triangulation (up to ties between cocircular points)."""
+    if method not in ("auto", "sequential", "bulk"):
+        raise ValueError(f"method must be 'auto', 'sequential' or 'bulk', got {method!r}")
+    if method == "bulk" or (method == "auto" and len(indices) >= BULK_THRESHOLD):
+        from .bulk_delaunay import bulk_delaunay
+        return bulk_delaunay(xs, ys, indices, seed=seed)
     idx = np.asarray(indices, dtype=np.int64)
     pts = np.column_stack((np.asarray(xs)[idx], np.asarray(ys)[idx]))
     order = idx[brio_order(pts, seed=seed)].tolist()
