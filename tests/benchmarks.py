@@ -451,9 +451,24 @@ def case_delaunay_100k(ctx: Context) -> Row:
     about="CDT of a 20k-vertex lake shore with four 1k-vertex islands vs shapely (GEOS)",
 )
 def case_cdt_outline_20k(ctx: Context) -> Row:
+    return _cdt_case(ctx, *((4_000, 200) if ctx.quick else (20_000, 1_000)))
+
+
+@register("delaunay-1m", bar=1.5, repeat=1,
+          about="Delaunay of 1M uniform points vs scipy (Qhull); the vectorised path")
+def case_delaunay_1m(ctx: Context) -> Row:
+    return _delaunay_case(ctx, 100_000 if ctx.quick else 1_000_000)
+
+
+@register("cdt-outline-100k", bar=1.0, repeat=1,
+          about="CDT of a 100k-vertex lake shore with four 5k-vertex islands vs shapely (GEOS)")
+def case_cdt_outline_100k(ctx: Context) -> Row:
+    return _cdt_case(ctx, *((20_000, 1_000) if ctx.quick else (100_000, 5_000)))
+
+
+def _cdt_case(ctx: Context, n_shore: int, n_hole: int) -> Row:
     import shapely
 
-    n_shore, n_hole = (4_000, 200) if ctx.quick else (20_000, 1_000)
     shell, holes, pts, segs = lake_shore(ctx.rng(n_shore), n_shore, n_hole)
     n_v = len(pts)
     n_h = len(holes)
