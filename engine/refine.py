@@ -80,6 +80,8 @@ GUARANTEED_ANGLE = math.degrees(math.asin(1.0 / (2.0 * math.sqrt(2.0))))
 SMALL_INPUT_ANGLE = 60.0
 # without max_points the number of added points is capped at this
 DEFAULT_POINT_CAP = 2_000_000
+# method="auto" takes the batched path from this expected output size
+BATCHED_FROM = 20_000
 
 _NEXT = (1, 2, 0)
 _PREV = (2, 0, 1)
@@ -119,7 +121,7 @@ def _check_options(min_angle, max_area, max_edge, max_points, encroachment, size
 
 def refine(tri, *, min_angle=30.0, max_area=None, max_edge=None, keep_boundary=False,
            max_points=None, off_centers=True, encroachment="lens", size_growth=None,
-           smoothing=False, smoothing_passes=4, fixed_segments=None):
+           smoothing=False, smoothing_passes=4, fixed_segments=None, method="auto"):
     """Refine a :class:`Triangulation` (from :func:`engine.triangulate`) by
     adding Steiner points.  Returns a new Triangulation; the input is not changed.
 
@@ -150,6 +152,12 @@ def refine(tri, *, min_angle=30.0, max_area=None, max_edge=None, keep_boundary=F
     fixed_segments   (K, 2) point-index pairs: segments (or border edges) that
                      must not be split, as with keep_boundary but for these
                      edges only (e.g. an outline shared with a finished mesh).
+    method           "sequential": one point at a time (the reference path);
+                     "batched": array rounds of independent insertions
+                     (:mod:`engine.batch_refine`; keep_boundary, size_growth
+                     and fixed_segments run sequentially); "auto" (default):
+                     batched when the refined mesh is expected to have at
+                     least BATCHED_FROM triangles and the options allow it.
 
     Border edges of the region that are not segments act as segments.  Added
     points come after the existing ones; pieces of split segments keep their
@@ -161,6 +169,13 @@ def refine(tri, *, min_angle=30.0, max_area=None, max_edge=None, keep_boundary=F
         raise ValueError("tri must be a Triangulation (as returned by engine.triangulate)")
     if len(tri.triangles) == 0:
         raise ValueError("the triangulation has no triangles")
+    if method not in ("auto", "sequential", "batched"):
+        raise ValueError(f"method must be 'auto', 'sequential' or 'batched', got {method!r}")
+    from . import batch_refine
+    batched = method != "sequential" and batch_refine.supports(
+        keep_boundary, size_growth, fixed_segments)
+    if batched and method == "auto":
+        batched = batch_refine.estimated_triangles(tri, max_area, max_edge) >= BATCHED_FROM
     ref = _Refiner(tri, min_angle, max_area, max_edge, bool(keep_boundary),
                    DEFAULT_POINT_CAP if max_points is None else int(max_points),
                    bool(off_centers), encroachment, size_growth)
@@ -172,6 +187,9 @@ def refine(tri, *, min_angle=30.0, max_area=None, max_edge=None, keep_boundary=F
             raise ValueError("fixed_segments use a point index out of range")
         for a, b in fixed.astype(np.int64).tolist():
             ref.unsplittable.add((a, b) if a < b else (b, a))
+    if batched:
+        return batch_refine.refine_batched(tri, ref, bool(smoothing), smoothing_passes)
+    ref.prepare_relaxation()
     ref.run()
     if smoothing and smoothing_passes:
         ref.smooth(smoothing_passes)
@@ -227,6 +245,33 @@ class _Refiner:
         mesh.legalize_corners(range(len(mesh.tv)))
         self.small_apex = self._small_angle_apexes()
         self.grid = _SizeGrid(mesh, self.n0, size_growth, max_edge) if size_growth else None
+        self.relax = None
+
+    def prepare_relaxation(self):
+        """With fixed edges (keep_boundary or fixed_segments) longer than the
+        size limits allow, relax the limits in a graded band around them: the
+        triangle standing on a fixed edge of length L is as large as L, and
+        sizes may shrink by RELAX_GROWTH per unit of distance from there.
+        Without the band, refinement would pack slivers against the edge."""
+        if self.area2_limit == math.inf and self.edge2_limit == math.inf:
+            return
+        target = math.sqrt(self.edge2_limit) if self.edge2_limit < math.inf else math.inf
+        if self.area2_limit < math.inf:
+            target = min(target, math.sqrt(self.area2_limit / 0.8660254037844386))
+        mesh = self.mesh
+        tv, tn, tc, x, y = mesh.tv, mesh.tn, mesh.tc, mesh.x, mesh.y
+        fixed = []
+        for c in range(len(tv)):
+            if tv[c] == DEAD or not (tc[c] or tn[c] < 0) or (tn[c] >= 0 and tn[c] < c):
+                continue
+            u, v = tv[_next(c)], tv[_prev(c)]
+            key = (u, v) if u < v else (v, u)
+            if not (self.keep_boundary or key in self.unsplittable):
+                continue
+            if math.hypot(x[u] - x[v], y[u] - y[v]) > target:
+                fixed.append((x[u], y[u], x[v], y[v]))
+        if fixed:
+            self.relax = _RelaxGrid(mesh, np.array(fixed), RELAX_GROWTH)
 
     # ------------------------------------------------------------ set-up
     def _mark_constraints(self, tri):
@@ -444,10 +489,15 @@ class _Refiner:
         if s2 < self.sin2_bound:
             return s2
         ratio = 1.0
-        if area2 > self.area2_limit:
-            ratio = self.area2_limit / area2
-        if hi > self.edge2_limit:
-            ratio = min(ratio, self.edge2_limit / hi)
+        area2_limit, edge2_limit = self.area2_limit, self.edge2_limit
+        if self.relax is not None and (area2 > area2_limit or hi > edge2_limit):
+            r = self.relax.size_at((ax + bx + cx) / 3.0, (ay + by + cy) / 3.0)
+            edge2_limit = max(edge2_limit, r * r)
+            area2_limit = max(area2_limit, 0.8660254037844386 * r * r)
+        if area2 > area2_limit:
+            ratio = area2_limit / area2
+        if hi > edge2_limit:
+            ratio = min(ratio, edge2_limit / hi)
         if self.grid is not None:
             h = self.grid.size_at((ax + bx + cx) / 3.0, (ay + by + cy) / 3.0)
             if hi > h * h:
@@ -459,11 +509,16 @@ class _Refiner:
     def _size_bad(self, ax, ay, bx, by, cx, cy):
         """The triangle breaks a size limit (area, edge or graded size)."""
         area2 = (bx - ax) * (cy - ay) - (by - ay) * (cx - ax)
-        if area2 > self.area2_limit:
-            return True
         hi = max((bx - cx) ** 2 + (by - cy) ** 2, (cx - ax) ** 2 + (cy - ay) ** 2,
                  (ax - bx) ** 2 + (ay - by) ** 2)
-        if hi > self.edge2_limit:
+        area2_limit, edge2_limit = self.area2_limit, self.edge2_limit
+        if self.relax is not None and (area2 > area2_limit or hi > edge2_limit):
+            r = self.relax.size_at((ax + bx + cx) / 3.0, (ay + by + cy) / 3.0)
+            edge2_limit = max(edge2_limit, r * r)
+            area2_limit = max(area2_limit, 0.8660254037844386 * r * r)
+        if area2 > area2_limit:
+            return True
+        if hi > edge2_limit:
             return True
         if self.grid is not None:
             h = self.grid.size_at((ax + bx + cx) / 3.0, (ay + by + cy) / 3.0)
@@ -1369,4 +1424,50 @@ class _SizeGrid:
             j = 0
         elif j >= self.ny:
             j = self.ny - 1
+        return self.values[j][i]
+
+
+# how fast the relaxed size shrinks away from a long fixed edge (units per unit)
+RELAX_GROWTH = 0.5
+
+
+class _RelaxGrid:
+    """r(x) = max over long fixed edges e of (|e| - g * dist(x, e)), sampled
+    on a grid of about 128 x 128 cells; size_at gives the largest value over
+    the cell's corners plus the Lipschitz slack (a generous bound: it only
+    waives size limits, never angle limits)."""
+
+    def __init__(self, mesh, edges, growth):
+        xs = np.asarray(mesh.x)
+        ys = np.asarray(mesh.y)
+        x0, x1 = float(xs.min()), float(xs.max())
+        y0, y1 = float(ys.min()), float(ys.max())
+        span = max(x1 - x0, y1 - y0) or 1.0
+        cells = 128
+        self.cell = span / cells
+        self.x0, self.y0 = x0, y0
+        nx = int(math.ceil((x1 - x0) / self.cell)) + 1
+        ny = int(math.ceil((y1 - y0) / self.cell)) + 1
+        gx = x0 + self.cell * np.arange(nx + 1)
+        gy = y0 + self.cell * np.arange(ny + 1)
+        GX, GY = np.meshgrid(gx, gy)
+        node = np.full(GX.shape, -np.inf)
+        for i in range(0, len(edges), 128):
+            e = edges[i:i + 128]
+            ax, ay, bx, by = (e[:, k] for k in range(4))
+            dx, dy = bx - ax, by - ay
+            length2 = dx * dx + dy * dy
+            t = ((GX[..., None] - ax) * dx + (GY[..., None] - ay) * dy) / length2
+            t = np.clip(t, 0.0, 1.0)
+            dist = np.hypot(GX[..., None] - (ax + t * dx), GY[..., None] - (ay + t * dy))
+            np.maximum(node, (np.sqrt(length2) - growth * dist).max(axis=2), out=node)
+        high = np.maximum(np.maximum(node[:-1, :-1], node[1:, :-1]),
+                          np.maximum(node[:-1, 1:], node[1:, 1:]))
+        high = high + growth * self.cell * math.sqrt(2.0)
+        self.nx, self.ny = nx, ny
+        self.values = np.maximum(high, 0.0).tolist()
+
+    def size_at(self, px, py):
+        i = min(max(int((px - self.x0) / self.cell), 0), self.nx - 1)
+        j = min(max(int((py - self.y0) / self.cell), 0), self.ny - 1)
         return self.values[j][i]
