@@ -1385,19 +1385,9 @@ class _SizeGrid:
         np.minimum.at(s, a, length)
         np.minimum.at(s, b, length)
         vx, vy, sv = xs[used], ys[used], s[used]
-        x0, x1 = float(vx.min()), float(vx.max())
-        y0, y1 = float(vy.min()), float(vy.max())
-        span = max(x1 - x0, y1 - y0) or 1.0
-        cells = 128
-        self.cell = span / cells
-        self.x0, self.y0 = x0, y0
-        nx = int(math.ceil((x1 - x0) / self.cell)) + 1
-        ny = int(math.ceil((y1 - y0) / self.cell)) + 1
-        gx = x0 + self.cell * np.arange(nx + 1)
-        gy = y0 + self.cell * np.arange(ny + 1)
-        node = np.full((ny + 1, nx + 1), np.inf)
+        GX, GY = _grid_frame(self, vx, vy)
+        node = np.full(GX.shape, np.inf)
         # exact h at the grid nodes, in chunks of input vertices
-        GX, GY = np.meshgrid(gx, gy)
         for i in range(0, len(vx), 256):
             d = np.hypot(GX[..., None] - vx[i:i + 256], GY[..., None] - vy[i:i + 256])
             np.minimum(node, (sv[i:i + 256] + growth * d).min(axis=2), out=node)
@@ -1409,22 +1399,11 @@ class _SizeGrid:
         low = np.maximum(low, floor)
         if max_edge is not None:
             low = np.minimum(low, max_edge)
-        self.nx, self.ny = nx, ny
         self.values = low.tolist()
         self.floor = floor
 
     def size_at(self, px, py):
-        i = int((px - self.x0) / self.cell)
-        j = int((py - self.y0) / self.cell)
-        if i < 0:
-            i = 0
-        elif i >= self.nx:
-            i = self.nx - 1
-        if j < 0:
-            j = 0
-        elif j >= self.ny:
-            j = self.ny - 1
-        return self.values[j][i]
+        return _grid_value(self, px, py)
 
 
 # how fast the relaxed size shrinks away from a long fixed edge (units per unit)
@@ -1438,19 +1417,7 @@ class _RelaxGrid:
     waives size limits, never angle limits)."""
 
     def __init__(self, mesh, edges, growth):
-        xs = np.asarray(mesh.x)
-        ys = np.asarray(mesh.y)
-        x0, x1 = float(xs.min()), float(xs.max())
-        y0, y1 = float(ys.min()), float(ys.max())
-        span = max(x1 - x0, y1 - y0) or 1.0
-        cells = 128
-        self.cell = span / cells
-        self.x0, self.y0 = x0, y0
-        nx = int(math.ceil((x1 - x0) / self.cell)) + 1
-        ny = int(math.ceil((y1 - y0) / self.cell)) + 1
-        gx = x0 + self.cell * np.arange(nx + 1)
-        gy = y0 + self.cell * np.arange(ny + 1)
-        GX, GY = np.meshgrid(gx, gy)
+        GX, GY = _grid_frame(self, np.asarray(mesh.x), np.asarray(mesh.y))
         node = np.full(GX.shape, -np.inf)
         for i in range(0, len(edges), 128):
             e = edges[i:i + 128]
@@ -1464,10 +1431,27 @@ class _RelaxGrid:
         high = np.maximum(np.maximum(node[:-1, :-1], node[1:, :-1]),
                           np.maximum(node[:-1, 1:], node[1:, 1:]))
         high = high + growth * self.cell * math.sqrt(2.0)
-        self.nx, self.ny = nx, ny
         self.values = np.maximum(high, 0.0).tolist()
 
     def size_at(self, px, py):
-        i = min(max(int((px - self.x0) / self.cell), 0), self.nx - 1)
-        j = min(max(int((py - self.y0) / self.cell), 0), self.ny - 1)
-        return self.values[j][i]
+        return _grid_value(self, px, py)
+
+
+def _grid_frame(grid, xs, ys, cells=128):
+    """Set grid.x0, y0, cell, nx, ny for about cells x cells square cells over
+    the points; return the node coordinates (ny + 1, nx + 1) as GX, GY."""
+    x0, x1 = float(xs.min()), float(xs.max())
+    y0, y1 = float(ys.min()), float(ys.max())
+    grid.cell = (max(x1 - x0, y1 - y0) or 1.0) / cells
+    grid.x0, grid.y0 = x0, y0
+    grid.nx = int(math.ceil((x1 - x0) / grid.cell)) + 1
+    grid.ny = int(math.ceil((y1 - y0) / grid.cell)) + 1
+    return np.meshgrid(x0 + grid.cell * np.arange(grid.nx + 1),
+                       y0 + grid.cell * np.arange(grid.ny + 1))
+
+
+def _grid_value(grid, px, py):
+    """grid.values of the cell holding (px, py), clamped to the grid."""
+    i = min(max(int((px - grid.x0) / grid.cell), 0), grid.nx - 1)
+    j = min(max(int((py - grid.y0) / grid.cell), 0), grid.ny - 1)
+    return grid.values[j][i]

@@ -693,64 +693,14 @@ class _FaceLocator:
                 self.mesh = None
 
     def locate_many(self, points):
-        """Containing triangle (index into the face triangles) and clamped
-        barycentric weights for many points at once: a uniform grid over the
-        region buckets the triangles; each point takes the candidate of its
-        cell with the largest smallest barycentric coordinate; points no
-        candidate contains fall back to the walk."""
+        """Containing original face triangle (index into the face triangles)
+        and clamped barycentric weights for many points."""
         pts = np.asarray(points, dtype=np.float64).reshape(-1, 2)
-        q = len(pts)
-        tri_of = np.full(q, -1, dtype=np.int64)
-        bary = np.zeros((q, 3))
-        good = self.good
-        if self.mesh is not None and q:
+        if self.mesh is not None and len(pts):
             return self._walk_many(pts)
-        if q == 0 or len(good) == 0:
-            for i in range(q):
-                tri_of[i], bary[i] = self._locate_one(*pts[i])
-            return tri_of, bary
-        corners = self.pts[self.tris[good]]                      # (G, 3, 2)
-        lo = np.minimum(corners.min(axis=1).min(axis=0), pts.min(axis=0))
-        hi = np.maximum(corners.max(axis=1).max(axis=0), pts.max(axis=0))
-        size = max(1, min(512, int(math.sqrt(len(good))) + 1))
-        scale = size / np.maximum(hi - lo, 1e-300)
-        cmin = np.clip(((corners.min(axis=1) - lo) * scale).astype(np.int64), 0, size - 1)
-        cmax = np.clip(((corners.max(axis=1) - lo) * scale).astype(np.int64), 0, size - 1)
-        nx = cmax[:, 0] - cmin[:, 0] + 1
-        ny = cmax[:, 1] - cmin[:, 1] + 1
-        count = nx * ny
-        owner = np.repeat(np.arange(len(good)), count)
-        offset = np.arange(int(count.sum())) - np.repeat(np.cumsum(count) - count, count)
-        cx = cmin[owner, 0] + offset % nx[owner]
-        cy = cmin[owner, 1] + offset // nx[owner]
-        cell = cx * size + cy
-        order = np.argsort(cell, kind="stable")
-        cell_sorted, owner_sorted = cell[order], owner[order]
-        starts = np.searchsorted(cell_sorted, np.arange(size * size + 1))
-        qc = np.clip(((pts - lo) * scale).astype(np.int64), 0, size - 1)
-        qcell = qc[:, 0] * size + qc[:, 1]
-        per = starts[qcell + 1] - starts[qcell]
-        query = np.repeat(np.arange(q), per)
-        cand = owner_sorted[np.arange(int(per.sum())) - np.repeat(np.cumsum(per) - per, per)
-                            + np.repeat(starts[qcell], per)]
-        a, b, c = corners[cand, 0], corners[cand, 1], corners[cand, 2]
-        p = pts[query]
-        det = (b[:, 0] - a[:, 0]) * (c[:, 1] - a[:, 1]) - (b[:, 1] - a[:, 1]) * (c[:, 0] - a[:, 0])
-        wb = ((p[:, 0] - a[:, 0]) * (c[:, 1] - a[:, 1]) - (p[:, 1] - a[:, 1]) * (c[:, 0] - a[:, 0])) / det
-        wc = ((b[:, 0] - a[:, 0]) * (p[:, 1] - a[:, 1]) - (b[:, 1] - a[:, 1]) * (p[:, 0] - a[:, 0])) / det
-        wa = 1.0 - wb - wc
-        score = np.minimum(np.minimum(wa, wb), wc)
-        best = np.full(q, -np.inf)
-        np.maximum.at(best, query, score)
-        winner = np.flatnonzero(score == best[query])
-        chosen = np.full(q, -1, dtype=np.int64)
-        chosen[query[winner]] = winner
-        ok = (chosen >= 0) & (best >= -1e-9)
-        k = chosen[ok]
-        tri_of[ok] = good[cand[k]]
-        w = np.clip(np.column_stack((wa[k], wb[k], wc[k])), 0.0, None)
-        bary[ok] = w / w.sum(axis=1, keepdims=True)
-        for i in np.flatnonzero(~ok).tolist():
+        tri_of = np.full(len(pts), -1, dtype=np.int64)
+        bary = np.zeros((len(pts), 3))
+        for i in range(len(pts)):
             tri_of[i], bary[i] = self._locate_one(*pts[i])
         return tri_of, bary
 
@@ -780,14 +730,7 @@ class _FaceLocator:
         ok = slot >= 0
         tri_of = slot.copy()
         bary = np.zeros((q, 3))
-        t = tri_of[ok]
-        corners = self.pts[self.tris[t]]
-        a, b, c = corners[:, 0], corners[:, 1], corners[:, 2]
-        p = pts[ok]
-        det = (b[:, 0] - a[:, 0]) * (c[:, 1] - a[:, 1]) - (b[:, 1] - a[:, 1]) * (c[:, 0] - a[:, 0])
-        wb = ((p[:, 0] - a[:, 0]) * (c[:, 1] - a[:, 1]) - (p[:, 1] - a[:, 1]) * (c[:, 0] - a[:, 0])) / det
-        wc = ((b[:, 0] - a[:, 0]) * (p[:, 1] - a[:, 1]) - (b[:, 1] - a[:, 1]) * (p[:, 0] - a[:, 0])) / det
-        w = np.clip(np.column_stack((1.0 - wb - wc, wb, wc)), 0.0, None)
+        w = np.clip(_barycentric_many(self.pts[self.tris[tri_of[ok]]], pts[ok]), 0.0, None)
         bary[ok] = w / w.sum(axis=1, keepdims=True)
         for i in fallback:
             tri_of[i], bary[i] = self._locate_one(*pts[i])
@@ -802,18 +745,6 @@ class _FaceLocator:
         if t is None:
             t = self._nearest(px, py)
         return t, self._barycentric(t, px, py)
-
-    def locate(self, px, py):
-        """(face, (corner a, corner b, corner c), barycentric weights)."""
-        t = None
-        if self.mesh is not None:
-            s = self.mesh.locate(px, py)
-            if self._inside(s, px, py):
-                t = int(self.good[s])
-        if t is None:
-            t = self._nearest(px, py)
-        a, b, c, f = self.tri_corners[t]
-        return f, (a, b, c), self._barycentric(t, px, py)
 
     def _inside(self, s, px, py):
         tv, x, y = self.mesh.tv, self.mesh.x, self.mesh.y
@@ -837,11 +768,18 @@ class _FaceLocator:
     def _nearest(self, px, py):
         """The good triangle whose barycentric coordinates are least negative."""
         idx = self.good if len(self.good) else np.arange(len(self.tris))
-        p = self.pts[self.tris[idx]]
-        a, b, c = p[:, 0], p[:, 1], p[:, 2]
-        det = (b[:, 0] - a[:, 0]) * (c[:, 1] - a[:, 1]) - (b[:, 1] - a[:, 1]) * (c[:, 0] - a[:, 0])
-        det = np.where(det == 0, 1e-300, det)
-        wb = ((px - a[:, 0]) * (c[:, 1] - a[:, 1]) - (py - a[:, 1]) * (c[:, 0] - a[:, 0])) / det
-        wc = ((b[:, 0] - a[:, 0]) * (py - a[:, 1]) - (b[:, 1] - a[:, 1]) * (px - a[:, 0])) / det
-        worst = np.minimum(np.minimum(1.0 - wb - wc, wb), wc)
+        w = _barycentric_many(self.pts[self.tris[idx]], np.array([[px, py]]))
+        worst = w.min(axis=1)
         return int(idx[int(np.argmax(worst))])
+
+
+def _barycentric_many(corners, points):
+    """(K, 3) barycentric coordinates of points (K, 2) (or one point, broadcast)
+    in triangles corners (K, 3, 2); degenerate triangles give huge values."""
+    a, b, c = corners[:, 0], corners[:, 1], corners[:, 2]
+    p = np.broadcast_to(points, a.shape)
+    det = (b[:, 0] - a[:, 0]) * (c[:, 1] - a[:, 1]) - (b[:, 1] - a[:, 1]) * (c[:, 0] - a[:, 0])
+    det = np.where(det == 0, 1e-300, det)
+    wb = ((p[:, 0] - a[:, 0]) * (c[:, 1] - a[:, 1]) - (p[:, 1] - a[:, 1]) * (c[:, 0] - a[:, 0])) / det
+    wc = ((b[:, 0] - a[:, 0]) * (p[:, 1] - a[:, 1]) - (b[:, 1] - a[:, 1]) * (p[:, 0] - a[:, 0])) / det
+    return np.column_stack((1.0 - wb - wc, wb, wc))
