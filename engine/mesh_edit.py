@@ -38,6 +38,21 @@ class RegionReport:
     min_angle_after: float = float("nan")
     added_points: int = 0
     complete: bool = True        # False when a point cap stopped refinement early
+    face_ids: list = field(default_factory=list)   # the original faces of the region
+    normal: tuple = (0.0, 0.0, 1.0)                # unit normal of its plane
+
+    def as_dict(self):
+        """Plain JSON-ready figures (no face list)."""
+        return {"region": self.region, "faces": self.faces, "status": self.status,
+                "reason": self.reason, "triangles_before": self.triangles_before,
+                "triangles_after": self.triangles_after,
+                "min_angle_before": _finite(self.min_angle_before),
+                "min_angle_after": _finite(self.min_angle_after),
+                "added_points": self.added_points, "complete": self.complete}
+
+
+def _finite(value):
+    return None if value != value else round(float(value), 6)
 
 
 @dataclass
@@ -52,6 +67,7 @@ class MeshEdit:
     vertex_source_edge: np.ndarray
     faces: PolygonList
     face_source: np.ndarray
+    face_region: np.ndarray          # (F',) region of each new face, -1 for grown faces
     corner_weight_starts: np.ndarray
     corner_weight_indices: np.ndarray
     corner_weight_values: np.ndarray

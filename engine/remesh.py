@@ -224,6 +224,8 @@ class _EditBuilder:
         except (ValueError, RuntimeError) as exc:
             report = RegionReport(region=rid, faces=len(faces), status="skipped",
                                   reason=f"degenerate: {exc}")
+        report.face_ids = list(faces)
+        report.normal = tuple(float(v) for v in region.normal)
         self.reports.append(report)
 
     def precheck(self, region):
@@ -593,6 +595,8 @@ class _EditBuilder:
             vertex_source_edge=np.array(self.vedge, dtype=np.int64).reshape(-1, 2),
             faces=PolygonList.from_faces(out_faces),
             face_source=np.array(out_source, dtype=np.int64),
+            face_region=np.array([self.reports[r].region if r >= 0 else -1 for r in out_region],
+                                 dtype=np.int64),
             corner_weight_starts=cs_, corner_weight_indices=ci, corner_weight_values=cw,
             dropped_vertices=dropped,
             regions=sorted(self.reports, key=lambda r: r.region))
