@@ -6,9 +6,11 @@ from importlib.util import find_spec
 
 if find_spec(f"{__package__}.engine") is not None:
     from . import engine
+    from .engine.flat_regions import EdgeTable, find_regions
     from .engine.quality import triangle_angles
 else:
     import engine
+    from engine.flat_regions import EdgeTable, find_regions
     from engine.quality import triangle_angles
 
-__all__ = ["engine", "triangle_angles"]
+__all__ = ["EdgeTable", "engine", "find_regions", "triangle_angles"]

@@ -53,3 +53,42 @@ def thin_triangle_mask(positions, loop_starts, loop_totals, corner_verts, min_an
     if hidden is not None:
         mask &= ~np.asarray(hidden, dtype=bool)
     return mask
+
+
+# The overlay's colour ramp: (smallest angle in degrees, RGB).  Below the first stop the
+# first colour, above the last the last; linear in between.
+RAMP = (
+    (0.0, (0.80, 0.08, 0.40)),    # crimson: needles
+    (10.0, (0.93, 0.42, 0.12)),   # burnt orange
+    (20.0, (0.95, 0.80, 0.22)),   # amber
+    (30.0, (0.47, 0.78, 0.36)),   # leaf green: the usual target
+    (45.0, (0.22, 0.62, 0.72)),   # sea blue
+    (60.0, (0.40, 0.42, 0.86)),   # periwinkle: equilateral
+)
+
+
+def angle_colours(angles, alpha=0.45):
+    """(T, 4) RGBA of the ramp for each smallest angle (degrees)."""
+    stops = np.array([s for s, _ in RAMP])
+    rgb = np.array([c for _, c in RAMP])
+    a = np.asarray(angles, dtype=np.float64)
+    out = np.empty((len(a), 4))
+    for k in range(3):
+        out[:, k] = np.interp(a, stops, rgb[:, k])
+    out[:, 3] = alpha
+    return out
+
+
+def overlay_figures(face_angles, loop_totals, threshold):
+    """The readout: faces, triangles (a k-gon counts k - 2), smallest corner angle and
+    the number of triangles (3-sided faces) whose smallest angle is under `threshold`."""
+    face_angles = np.asarray(face_angles, dtype=np.float64)
+    totals = np.asarray(loop_totals, dtype=np.int64)
+    tri = totals == 3
+    return {
+        "faces": len(totals),
+        "triangles": int((totals - 2).sum()),
+        "smallest": float(face_angles.min()) if len(face_angles) else float("nan"),
+        "under": int((face_angles[tri] < threshold).sum()),
+        "threshold": float(threshold),
+    }

@@ -1,14 +1,25 @@
 """Operators: read the host mesh in bulk, measure or remesh with the engine, write back.
 
-Planned operators plug in at the TODO hooks at the end of this module.
+``mesh.remesh_flat_regions`` / ``object.remesh_flat_regions`` and
+``mesh.flip_to_better_angles`` share one flow (:func:`run_job`): read every mesh,
+plan every edit with the engine (nothing is written yet; an exception here cancels
+the run with the mesh untouched), then write all edits (a failing write restores
+every mesh already written), report one line and store the figures on the scene.
+In Edit Mode the run leaves Edit Mode (which writes the edit mesh into the mesh), reads
+and writes in Object Mode, and enters Edit Mode again with the same objects.
 """
+
+import time
 
 import bmesh
 import bpy
 import numpy as np
-from bpy.props import BoolProperty, FloatProperty
+from bpy.props import BoolProperty, EnumProperty, FloatProperty
+from mathutils.bvhtree import BVHTree
 
+from . import jobs, mesh_bridge, presets
 from .measure import thin_triangle_mask
+from .properties import FLIP_SETTINGS, REMESH_SETTINGS, SCENE_PROPERTY, annotate, fill_from_scene
 
 
 def read_mesh_arrays(mesh):
@@ -95,14 +106,290 @@ select mode so exactly those faces are selected)"""
         return {'FINISHED'}
 
 
-# TODO(remesh_flat_regions, edit mode): operator `mesh.remesh_flat_regions` on the selected
-#   faces of every object in Edit Mode, once `engine.remesh_flat_regions` exists (issue 4):
-#   read_mesh_arrays() -> engine -> write back through bmesh/foreach_set -> one-line report;
-#   defaults from scene.flat_region_remesh (properties.SETTING_GROUPS); REGISTER + UNDO.
-# TODO(remesh_flat_regions, object mode): operator `object.remesh_flat_regions`, the same on
-#   every selected mesh object in Object Mode.
-# TODO(flip_to_better_angles): operator `mesh.flip_to_better_angles`, `engine.legalize` on
-#   the selected triangles that are flat within tolerance; adds no vertex.
-# Each new class goes into registration.CLASSES and gets a button in panel.draw_actions().
+# ---------------------------------------------------------------- the shared flow
+def selected_meshes(context):
+    """Selected mesh objects in Object Mode, one per mesh datablock."""
+    seen, out = set(), []
+    for ob in context.selected_objects:
+        if ob.type == 'MESH' and ob.data.name_full not in seen:
+            seen.add(ob.data.name_full)
+            out.append(ob)
+    return out
 
-CLASSES = (MESH_OT_select_thin_triangles,)
+
+def editable(ob):
+    return ob.data.library is None and getattr(ob.data, "is_editable", True)
+
+
+class Planned:
+    """One mesh's planned edit."""
+
+    def __init__(self, ob, data, edit, new_positions, select_new):
+        self.ob = ob
+        self.data = data
+        self.edit = edit
+        self.new_positions = new_positions
+        self.select_new = select_new
+        self.group_rows = None
+        if data.has_vertex_groups and len(edit.vertex_weight_indices):
+            sources = np.unique(edit.vertex_weight_indices)
+            self.group_rows = mesh_bridge.vertex_group_rows(ob.data, sources)
+
+
+def _enter_edit_mode(objects):
+    """Edit Mode again for exactly `objects` (other selected objects keep their flag)."""
+    view_layer = bpy.context.view_layer
+    others = [ob for ob in view_layer.objects if ob.select_get() and ob not in objects]
+    for ob in others:
+        ob.select_set(False)
+    for ob in objects:
+        ob.select_set(True)
+    bpy.ops.object.mode_set(mode='EDIT')
+    for ob in others:
+        ob.select_set(True)
+
+
+def write_all(plans):
+    """Write every changed plan; on any failure restore the meshes written so far."""
+    changed = [p for p in plans if p.edit.changed]
+    backups = []
+    try:
+        for plan in changed:
+            _, backup = mesh_bridge.commit(plan.ob.data, plan.data, plan.edit,
+                                           plan.new_positions, plan.group_rows,
+                                           plan.select_new)
+            backups.append((plan.ob.data, backup))
+    except Exception:
+        for mesh, backup in reversed(backups):
+            backup.restore(mesh)
+        raise
+    finally:
+        for _, backup in backups:
+            backup.free()
+
+
+def store_figures(context, operator, figures, line, seconds):
+    settings = getattr(context.scene, SCENE_PROPERTY, None)
+    if settings is None:
+        return
+    last = settings.last_run
+    last.operator = operator
+    last.summary = line
+    last.meshes = figures.meshes
+    last.regions_changed = figures.regions_changed
+    last.regions_skipped = figures.regions_skipped
+    last.skip_reasons = figures.reason_text()
+    last.triangles_before = figures.triangles_before
+    last.triangles_after = figures.triangles_after
+    last.min_angle_before = figures.min_angle_before if figures.triangles_before else -1.0
+    last.min_angle_after = figures.min_angle_after if figures.triangles_after else -1.0
+    last.flips = figures.flips
+    last.added_vertices = figures.added_vertices
+    last.seconds = seconds
+    last.engine_seconds = figures.engine_seconds
+
+
+def run_job(operator, context, objects, plan_one, edit_mode, kind):
+    """Read, plan (engine), write, report.  plan_one(ob, data, figures) -> Planned;
+    kind "remesh" or "flip" (the wording of the report)."""
+    start = time.perf_counter()
+    wm = context.window_manager
+    wm.progress_begin(0, 2 * len(objects) + 1)
+    figures = jobs.Figures()
+    in_mode = list(context.objects_in_mode) if edit_mode else []
+    try:
+        if edit_mode:   # the mesh API reads and writes bulk data in Object Mode
+            bpy.ops.object.mode_set(mode='OBJECT')
+        plans = []
+        for step, ob in enumerate(objects):
+            data = mesh_bridge.read_mesh(ob.data, len(ob.vertex_groups))
+            plans.append(plan_one(ob, data, figures))
+            figures.meshes += 1
+            wm.progress_update(step + 1)
+        write_all(plans)
+        wm.progress_update(2 * len(objects) + 1)
+    except Exception as exc:  # noqa: BLE001 (any failure cancels with nothing changed)
+        operator.report({'WARNING'}, f"{operator.bl_label}: nothing changed "
+                                     f"({type(exc).__name__}: {exc})")
+        return {'CANCELLED'}
+    finally:
+        if edit_mode:
+            _enter_edit_mode(in_mode)
+        wm.progress_end()
+    line = figures.line(kind)
+    operator.report({'INFO'}, line)
+    store_figures(context, operator.bl_idname, figures, line, time.perf_counter() - start)
+    return {'FINISHED'}
+
+
+def _engine_timed(figures, fn, *args, **kwargs):
+    start = time.perf_counter()
+    try:
+        return fn(*args, **kwargs)
+    finally:
+        figures.engine_seconds += time.perf_counter() - start
+
+
+def _break_pairs(op, data):
+    pairs, _counts = mesh_bridge.break_edge_pairs(
+        data, seams=op.break_at_seams, sharp=op.break_at_sharp,
+        material_borders=op.break_at_material_borders)
+    return pairs
+
+
+# ---------------------------------------------------------------- remesh
+class RemeshFlatRegions:
+    """Shared by the Edit Mode and Object Mode remesh operators."""
+
+    bl_options = {'REGISTER', 'UNDO'}  # noqa: RUF012 (the host reads a set)
+    edit_mode = False
+
+    def plan(self, ob, data, figures):
+        world = mesh_bridge.world_positions(data, ob.matrix_world)
+        mask = ~data.face_hidden
+        if self.edit_mode:
+            mask &= data.face_selected
+        options = {name: getattr(self, name) for name in (
+            "min_angle", "max_edge_length", "flat_angle", "keep_boundary", "smoothing",
+            "straight_run_tolerance", "keep_interior_vertices", "point_limit")}
+        edit = _engine_timed(figures, jobs.remesh_plan, data, world, mask,
+                             _break_pairs(self, data), **options)
+        figures.add_regions(edit.regions)
+        if edit.changed:
+            figures.add_faces(*jobs.edit_figures(world, data, edit))
+            figures.added_vertices += len(edit.new_vertices)
+        return Planned(ob, data, edit, jobs.new_local_positions(data, edit), self.edit_mode)
+
+    def execute(self, context):
+        fill_from_scene(self, context, REMESH_SETTINGS)
+        objects = self.targets(context)
+        if not objects:
+            self.report({'WARNING'}, "No editable mesh to remesh")
+            return {'CANCELLED'}
+        return run_job(self, context, objects, self.plan, self.edit_mode, "remesh")
+
+    def draw(self, context):
+        layout = self.layout
+        layout.use_property_split = True
+        for name in REMESH_SETTINGS:
+            layout.prop(self, name)
+
+
+class MESH_OT_remesh_flat_regions(RemeshFlatRegions, bpy.types.Operator):
+    """Re-triangulate the flat regions of the selected faces into well-shaped \
+triangles; outline vertices stay where they are"""
+
+    bl_idname = "mesh.remesh_flat_regions"
+    bl_label = "Remesh Flat Regions"
+    edit_mode = True
+
+    @classmethod
+    def poll(cls, context):
+        return context.mode == 'EDIT_MESH'
+
+    @staticmethod
+    def targets(context):
+        return [ob for ob in edit_meshes(context) if editable(ob)]
+
+
+class OBJECT_OT_remesh_flat_regions(RemeshFlatRegions, bpy.types.Operator):
+    """Re-triangulate the flat regions of every selected mesh object into \
+well-shaped triangles; outline vertices stay where they are"""
+
+    bl_idname = "object.remesh_flat_regions"
+    bl_label = "Remesh Flat Regions"
+    edit_mode = False
+
+    @classmethod
+    def poll(cls, context):
+        return context.mode == 'OBJECT' and any(
+            ob.type == 'MESH' for ob in context.selected_objects)
+
+    @staticmethod
+    def targets(context):
+        return [ob for ob in selected_meshes(context) if editable(ob)]
+
+
+annotate(MESH_OT_remesh_flat_regions, REMESH_SETTINGS)
+annotate(OBJECT_OT_remesh_flat_regions, REMESH_SETTINGS)
+
+
+# ---------------------------------------------------------------- flips
+def bvh_locator(points, triangles):
+    """Query function: the triangle (of a flat 2D triangulation) containing each point,
+    found with the host's BVH tree."""
+    pts3 = [(float(x), float(y), 0.0) for x, y in np.asarray(points).tolist()]
+    tree = BVHTree.FromPolygons(pts3, np.asarray(triangles).tolist(), all_triangles=True)
+
+    def locate(queries):
+        out = []
+        for x, y in np.asarray(queries).tolist():
+            hit = tree.find_nearest((x, y, 0.0))
+            out.append(hit[2] if hit[2] is not None else 0)
+        return out
+
+    return locate
+
+
+class MESH_OT_flip_to_better_angles(bpy.types.Operator):
+    """Flip edges between the selected triangles where that widens the smallest \
+angle (flat parts only; no vertex is added or moved)"""
+
+    bl_idname = "mesh.flip_to_better_angles"
+    bl_label = "Flip to Better Angles"
+    bl_options = {'REGISTER', 'UNDO'}  # noqa: RUF012
+
+    @classmethod
+    def poll(cls, context):
+        return context.mode == 'EDIT_MESH'
+
+    def plan(self, ob, data, figures):
+        world = mesh_bridge.world_positions(data, ob.matrix_world)
+        mask = data.face_selected & ~data.face_hidden
+        edit, flips = _engine_timed(figures, jobs.flip_plan, data, world, mask,
+                                    _break_pairs(self, data), self.flat_angle, bvh_locator)
+        figures.add_regions(edit.regions)
+        figures.flips += flips
+        if edit.changed:
+            figures.add_faces(*jobs.edit_figures(world, data, edit))
+        return Planned(ob, data, edit, np.zeros((0, 3)), True)
+
+    def execute(self, context):
+        fill_from_scene(self, context, FLIP_SETTINGS)
+        objects = [ob for ob in edit_meshes(context) if editable(ob)]
+        return run_job(self, context, objects, self.plan, True, "flip")
+
+
+annotate(MESH_OT_flip_to_better_angles, FLIP_SETTINGS)
+
+
+# ---------------------------------------------------------------- presets
+class SCENE_OT_flat_region_remesh_preset(bpy.types.Operator):
+    """Set the remesh settings for a common job"""
+
+    bl_idname = "scene.flat_region_remesh_preset"
+    bl_label = "Remesh Preset"
+    bl_options = {'REGISTER', 'UNDO'}  # noqa: RUF012
+
+    preset: EnumProperty(
+        name="Preset",
+        items=[(key, p.label, p.description) for key, p in presets.PRESETS.items()],
+    )
+
+    @classmethod
+    def description(cls, context, properties):
+        return presets.PRESETS[properties.preset].description
+
+    def execute(self, context):
+        settings = getattr(context.scene, SCENE_PROPERTY)
+        size = presets.object_size(context)
+        values = presets.PRESETS[self.preset].values(size)
+        for name, value in values.items():
+            setattr(settings, name, value)
+        self.report({'INFO'}, f"Settings for {presets.PRESETS[self.preset].label.lower()}")
+        return {'FINISHED'}
+
+
+CLASSES = (MESH_OT_select_thin_triangles, MESH_OT_remesh_flat_regions,
+           OBJECT_OT_remesh_flat_regions, MESH_OT_flip_to_better_angles,
+           SCENE_OT_flat_region_remesh_preset)

@@ -1,10 +1,11 @@
-"""Register and unregister every host class, the scene settings and the menu entries."""
+"""Register and unregister every host class, the scene settings and the menu entries;
+unregistering also removes the overlay's draw and update handlers."""
 
 import bpy
 
-from . import operators, panel, properties
+from . import operators, overlay, panel, properties
 
-CLASSES = (properties.FlatRegionRemeshSettings, *operators.CLASSES, *panel.CLASSES)
+CLASSES = (*properties.CLASSES, *operators.CLASSES, *overlay.CLASSES, *panel.CLASSES)
 
 
 def register():
@@ -17,6 +18,7 @@ def register():
 
 
 def unregister():
+    overlay.disable()
     for menu_name, draw in reversed(panel.MENU_ENTRIES):
         getattr(bpy.types, menu_name).remove(draw)
     delattr(bpy.types.Scene, properties.SCENE_PROPERTY)

@@ -154,8 +154,8 @@ def refine(tri, *, min_angle=30.0, max_area=None, max_edge=None, keep_boundary=F
                      edges only (e.g. an outline shared with a finished mesh).
     method           "sequential": one point at a time (the reference path);
                      "batched": array rounds of independent insertions
-                     (:mod:`engine.batch_refine`; keep_boundary, size_growth
-                     and fixed_segments run sequentially); "auto" (default):
+                     (:mod:`engine.batch_refine`; keep_boundary, size_growth,
+                     fixed_segments and smoothing run sequentially); "auto":
                      batched when the refined mesh is expected to have at
                      least BATCHED_FROM triangles and the options allow it.
 
@@ -173,7 +173,7 @@ def refine(tri, *, min_angle=30.0, max_area=None, max_edge=None, keep_boundary=F
         raise ValueError(f"method must be 'auto', 'sequential' or 'batched', got {method!r}")
     from . import batch_refine
     batched = method != "sequential" and batch_refine.supports(
-        keep_boundary, size_growth, fixed_segments)
+        keep_boundary, size_growth, fixed_segments, smoothing)
     if batched and method == "auto":
         batched = batch_refine.estimated_triangles(tri, max_area, max_edge) >= BATCHED_FROM
     ref = _Refiner(tri, min_angle, max_area, max_edge, bool(keep_boundary),
@@ -186,7 +186,9 @@ def refine(tri, *, min_angle=30.0, max_area=None, max_edge=None, keep_boundary=F
         if fixed.min() < 0 or fixed.max() >= len(tri.points):
             raise ValueError("fixed_segments use a point index out of range")
         for a, b in fixed.astype(np.int64).tolist():
-            ref.unsplittable.add((a, b) if a < b else (b, a))
+            key = (a, b) if a < b else (b, a)
+            ref.unsplittable.add(key)
+            ref.fixed_keys.add(key)
     if batched:
         return batch_refine.refine_batched(tri, ref, bool(smoothing), smoothing_passes)
     ref.prepare_relaxation()
@@ -233,6 +235,7 @@ class _Refiner:
                           failed_insertions=0, fallback_points=0, frozen_segments=0,
                           unfixable_fixed_boundary=0)
         self.unsplittable = set()
+        self.fixed_keys = set()         # fixed_segments: never split, like keep_boundary
         self.fixed_vertices = None      # keep_boundary: vertices of fixed edges (lazy)
         self.seg_origin = {}          # Steiner vertex on a segment -> input endpoints (A, B)
         self.heap = []               # skinny triangles, worst first
@@ -822,6 +825,9 @@ class _Refiner:
             if enc:
                 todo = [(u, v) for u, v in enc if self._may_split(u, v, lmin)]
                 if not todo:
+                    if lmin is not None and any(((u, v) if u < v else (v, u)) in self.fixed_keys
+                                                for u, v in enc):
+                        return "encroaches fixed"
                     return "rejected"
                 did = False
                 for u, v in todo:
@@ -1040,7 +1046,7 @@ class _Refiner:
                 if self._split_segment(c):
                     self._requeue(t, key, i0, i1, i2)
                 return
-            if self.keep_boundary:
+            if self.keep_boundary or ((u, v) if u < v else (v, u)) in self.fixed_keys:
                 if lmin is None:
                     lmin = math.sqrt(min(bl, cl, (bx - cx) ** 2 + (by - cy) ** 2))
                 self._fallback(t, key, px, py, lmin)
@@ -1091,7 +1097,10 @@ class _Refiner:
         tv, x, y = mesh.tv, mesh.x, mesh.y
         b = 3 * t
         if self.fixed_vertices is None:
-            self.fixed_vertices = self._boundary_vertices()
+            if self.keep_boundary:
+                self.fixed_vertices = self._boundary_vertices()
+            else:
+                self.fixed_vertices = {v for key in self.fixed_keys for v in key}
         fixed = self.fixed_vertices
         if tv[b] in fixed or tv[b + 1] in fixed or tv[b + 2] in fixed:
             # a triangle at the fixed boundary is left as the boundary allows

@@ -92,18 +92,32 @@ def remesh_flat_regions(vertices, faces, *, face_mask=None, flat_angle=1.0, flat
     options = dict(min_angle=min_angle, max_edge=max_edge, max_area=max_area,
                    keep_boundary=bool(keep_boundary), smoothing=smoothing,
                    size_growth=size_growth, max_points=max_points)
-    builder = _EditBuilder(verts, polys, edges, break_ids, bool(keep_interior_vertices))
+    dropped_border = set()
     if straighten_tolerance is not None and not keep_boundary:
-        usable = [rid for rid, region in enumerate(regions) if builder.precheck(region)]
-        builder.dropped_border = straight_run_vertices(
+        probe = _EditBuilder(verts, polys, edges, break_ids, bool(keep_interior_vertices))
+        usable = [rid for rid, region in enumerate(regions) if probe.precheck(region)]
+        dropped_border = straight_run_vertices(
             verts, polys, edges, region_of_face, regions, break_ids,
             float(straighten_tolerance), usable_regions=usable)
-    # thin regions first: an edge shared by two regions is split by the first
-    # one and fixed for the second, and a wide region adapts to a thin
-    # neighbour's split points far better than the other way round
-    for rid in sorted(range(len(regions)), key=lambda r: builder.region_area(regions[r])):
-        builder.remesh_region(rid, regions[rid], options)
-    return builder.finish()
+
+    def run(presplit):
+        builder = _EditBuilder(verts, polys, edges, break_ids, bool(keep_interior_vertices),
+                               presplit=presplit)
+        builder.dropped_border = dropped_border
+        for rid in sorted(range(len(regions)), key=lambda r: builder.region_area(regions[r])):
+            builder.remesh_region(rid, regions[rid], options)
+        return builder
+
+    # Edges shared by two changed regions must carry the same points on both
+    # sides.  A first pass lets every region split them as it likes (each
+    # seeing the points of those before it); the second pass gives every
+    # region the union of those points, fixed, so no region has to accept a
+    # point it did not plan for and none is split again afterwards.
+    first = run(None)
+    shared = first.shared_splits()
+    if not shared or keep_boundary:
+        return first.finish()
+    return run(shared).finish()
 
 
 def _face_mask(face_mask, count):
@@ -153,7 +167,7 @@ def _frame(normal):
 class _EditBuilder:
     """Accumulates the MeshEdit while regions are processed one by one."""
 
-    def __init__(self, verts, polys, edges, break_ids, keep_interior):
+    def __init__(self, verts, polys, edges, break_ids, keep_interior, presplit=None):
         self.verts = verts
         self.polys = polys
         self.edges = edges
@@ -172,7 +186,8 @@ class _EditBuilder:
         self.edge_splits = {}        # edge id -> [(t, new vertex)]
         self.new_faces = []          # lists of vertex ids
         self.new_face_region = []    # report index of the region each came from
-        self.settled = set()         # outline edge keys of regions already changed
+        self.presplit = presplit or {}   # edge key -> parameters of points it must carry
+        self.region_keys = []        # per changed region: its outline edge keys
         self.new_face_source = []
         self.new_corner_weights = []  # per new face: per corner [(original corner, w)]
         self.replaced = set()
@@ -321,7 +336,7 @@ class _EditBuilder:
         refined = tri
         if _refine is not None:
             fixed = [segments[i] for i, keys in enumerate(segment_edge)
-                     if any(k in self.settled for k in keys)]
+                     if any(k in self.presplit for k in keys)]
             refined = _refine(tri, fixed_segments=np.array(fixed, dtype=np.int64).reshape(-1, 2),
                               **{k: v for k, v in options.items() if v is not None})
         # ----- back to 3D
@@ -388,8 +403,10 @@ class _EditBuilder:
             self.new_face_source.append(f)
             self.new_corner_weights.append(weights)
         self.replaced.update(faces)
+        keys_here = set()
         for keys in segment_edge:
-            self.settled.update(keys)
+            keys_here.update(keys)
+        self.region_keys.append(keys_here)
         self.dropped.update(v for v in interior if v not in set(kept_interior))
         self.dropped.update(dropping)
         after = quality(refined.points, refined.triangles)
@@ -476,8 +493,21 @@ class _EditBuilder:
             chains.append((chain, covered))
         return chains
 
+    def shared_splits(self):
+        """Edge key -> parameters of all points on it, for edges on the
+        outline of two or more changed regions."""
+        count = {}
+        for keys in self.region_keys:
+            for k in keys:
+                count[k] = count.get(k, 0) + 1
+        return {k: sorted(t for t, _v in self.edge_splits.get(k, ()))
+                for k, c in count.items() if c >= 2}
+
     def _split_chain(self, u, v, e):
         """u, (points added on edge e by earlier regions, in order), v."""
+        if e in self.presplit and e not in self.edge_splits:
+            for t in self.presplit[e]:
+                self._add_edge_point(e, t)
         splits = self.edge_splits.get(e)
         if not splits:
             return [u, v]

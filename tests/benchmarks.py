@@ -585,6 +585,96 @@ def case_refine_outline_100k(ctx: Context) -> Row:
     )
 
 
+def harbour(n_outer: int):
+    """An invented harbour basin: a smooth wavy outline (radius 10 with two
+    ripples, n_outer evenly spaced vertices) around six round islands and two
+    rectangular piers (clockwise holes).  No input angle is under 60 degrees,
+    so refinement to 30 degrees leaves no triangle below it.
+
+    Returns (shell, holes, points, segments) like lake_shore."""
+    th = np.arange(n_outer) * (2.0 * np.pi / n_outer)
+    r = 10.0 * (1.0 + 0.08 * np.sin(3.0 * th) + 0.04 * np.cos(7.0 * th))
+    shell = np.column_stack((r * np.cos(th), r * np.sin(th)))
+    holes = []
+    for cx, cy, rad, k in ((5.0, 0.0, 1.2, 160), (-5.0, 0.0, 1.2, 160), (0.0, 5.0, 0.8, 110),
+                           (0.0, -5.5, 0.8, 110), (3.5, 4.0, 0.4, 60), (-3.5, -4.0, 0.4, 60)):
+        ph = -np.arange(k) * (2.0 * np.pi / k)
+        holes.append(np.column_stack((cx + rad * np.cos(ph), cy + rad * np.sin(ph))))
+    for x0, y0, x1, y1 in ((-2.0, -1.5, 2.0, -1.0), (-0.5, 2.0, 0.5, 3.0)):
+        holes.append(np.array([(x0, y0), (x0, y1), (x1, y1), (x1, y0)]))
+    loops = [shell] + holes
+    points = np.concatenate(loops)
+    segs = []
+    start = 0
+    for loop in loops:
+        k = len(loop)
+        idx = np.arange(start, start + k)
+        segs.append(np.column_stack((idx, np.roll(idx, -1))))
+        start += k
+    return shell, holes, points, np.concatenate(segs).astype(np.int64)
+
+
+@register(
+    "refine-1m",
+    bar=1.5,
+    repeat=1,
+    about="refinement to 30 degrees of an invented 3k-vertex harbour outline with eight "
+    "holes to ~1M triangles vs scipy Delaunay (Qhull) of the same output points",
+)
+def case_refine_1m(ctx: Context) -> Row:
+    import shapely
+    from scipy.spatial import Delaunay
+
+    max_area = 0.005 if ctx.quick else 0.0005
+    shell, holes, pts, segs = harbour(3_000)
+    poly = shapely.Polygon(shell, holes)
+    if not poly.is_valid:
+        raise RuntimeError("generated harbour polygon is not valid")
+    base = ctx.engine.triangulate(pts, segs)        # input preparation, not timed
+    refine = ctx.engine.refine
+
+    # warm-up on a tiny input
+    small_shell, small_holes, small_pts, small_segs = lake_shore(ctx.rng(1), 64, 16)
+    small = ctx.engine.triangulate(small_pts, small_segs)
+    Delaunay(refine(small, min_angle=30.0, method="batched").points)
+
+    ours_s, out = ctx.time_best(lambda: refine(base, min_angle=30.0, max_area=max_area))
+    ref_s, ref = ctx.time_best(lambda: Delaunay(out.points))
+
+    p, t = _triangulation_arrays(out)
+    ok, msgs = check_triangulation(p, t, expected_area=float(poly.area),
+                                   required_edges=np.asarray(out.segments))
+    q = ctx.engine.quality(p, t)
+    if q.min_angle < 30.0:
+        ok = False
+        msgs.append(f"smallest angle {q.min_angle:.2f} < 30")
+    if not out.complete:
+        ok = False
+        msgs.append(f"incomplete: {out.stop_reason}")
+    st = out.stats
+    added = st["added_points"]
+    notes = [
+        f"{len(t)} triangles, {len(p)} points ({added} added), smallest angle "
+        f"{q.min_angle:.2f} (before {st['min_angle_before']:.2f}), "
+        f"Qhull made {len(ref.simplices)} triangles of the same points",
+        f"path {st.get('method', 'sequential')}: {st.get('batched_rounds', 0)} rounds, "
+        f"{st.get('batched_flips', 0)} flips, {st.get('sequential_tail', 0)} proposals left "
+        f"to the sequential refiner; {added / ours_s:,.0f} added points per second",
+    ]
+    del ref
+    peak = ctx.peak_memory(lambda: refine(base, min_angle=30.0, max_area=max_area))
+    return ctx.row(
+        size=f"{len(pts)} v -> {len(t)} tris",
+        ours_s=ours_s,
+        ref_s=ref_s,
+        reference="scipy Delaunay (Qhull) of the output points",
+        peak_mib=peak,
+        valid=ok,
+        check="; ".join(msgs),
+        notes=notes,
+    )
+
+
 # --------------------------------------------------------------------------
 # running and printing
 # --------------------------------------------------------------------------

@@ -28,9 +28,18 @@ ROOT = Path(__file__).resolve().parent.parent
 SCRIPTS = Path(__file__).resolve().parent / "host_scripts"
 EXTENSION = "bl_ext.user_default.flat_region_remesh"
 MARK = "HOST-FACTS "
-SETTINGS = {"min_angle", "max_edge_length", "smoothing_passes", "flat_angle",
+SETTINGS = {"min_angle", "max_edge_length", "smoothing", "point_limit", "flat_angle",
             "break_at_seams", "break_at_sharp", "break_at_material_borders",
             "keep_boundary", "straight_run_tolerance", "keep_interior_vertices"}
+CLASSES = ["FlatRegionRemeshLastRun", "FlatRegionRemeshSettings",
+           "MESH_OT_select_thin_triangles", "MESH_OT_remesh_flat_regions",
+           "OBJECT_OT_remesh_flat_regions", "MESH_OT_flip_to_better_angles",
+           "SCENE_OT_flat_region_remesh_preset", "VIEW3D_OT_flat_region_remesh_overlay",
+           "VIEW3D_PT_flat_region_remesh"]
+OPERATORS = ["mesh.select_thin_triangles", "mesh.remesh_flat_regions",
+             "object.remesh_flat_regions", "mesh.flip_to_better_angles",
+             "scene.flat_region_remesh_preset", "view3d.flat_region_remesh_overlay"]
+FACE_ENTRY = EXTENSION + ".panel.draw_face_menu_entries"
 
 
 def bpy_dir():
@@ -115,13 +124,14 @@ def test_install_enable_and_disable_in_the_host(extension_zip, tmp_path):
 
     on = facts["after_enable"]
     assert on["enabled"]
-    assert sorted(on["classes"]) == sorted(["FlatRegionRemeshSettings",
-                                            "MESH_OT_select_thin_triangles",
-                                            "VIEW3D_PT_flat_region_remesh"])
-    assert sorted(on["types"]) == ["MESH_OT_select_thin_triangles",
-                                   "VIEW3D_PT_flat_region_remesh"]
-    assert on["operator"] and on["scene_property"]
-    assert on["menu_entries"] == [EXTENSION + ".panel"]
+    assert sorted(on["classes"]) == sorted(CLASSES)
+    assert sorted(on["types"]) == sorted(c for c in CLASSES if "_OT_" in c or "_PT_" in c)
+    assert on["operators"] == OPERATORS and on["scene_property"]
+    assert on["menu_entries"] == {
+        "VIEW3D_MT_select_edit_mesh": [EXTENSION + ".panel.draw_select_menu_entry"],
+        "VIEW3D_MT_edit_mesh_faces": [FACE_ENTRY],
+        "VIEW3D_MT_edit_mesh_context_menu": [FACE_ENTRY]}
+    assert on["handlers"] == []          # the overlay's handler exists only while it is on
 
     # the engine came from inside the extension (relative imports), not from the repo
     assert all(m == EXTENSION or m.startswith(EXTENSION + ".") for m in facts["modules"])
@@ -139,22 +149,46 @@ def test_install_enable_and_disable_in_the_host(extension_zip, tmp_path):
             assert "scene units" in text and "0 =" in text, name
     assert {n for n, p in settings.items() if p["unit"] == "LENGTH"} == {
         "max_edge_length", "straight_run_tolerance"}
-    assert settings["smoothing_passes"]["type"] == "INT"
+    assert settings["smoothing"]["type"] == "BOOLEAN"
+    assert settings["point_limit"]["type"] == "INT" and "0 =" in \
+        settings["point_limit"]["description"]
     assert facts["defaults"]["max_edge_length"] == 0.0
+    for name, prop in facts["last_run"].items():
+        assert prop["description"], name
 
     assert facts["panel"] == {"space": "VIEW_3D", "region": "UI", "category": "Remesh"}
     drawn = [name for kind, name in facts["panel_draws"] if kind == "prop"]
     assert sorted(drawn) == sorted(SETTINGS)  # every setting, once
-    assert ["operator", "mesh.select_thin_triangles"] in facts["panel_draws"]
+    # Object Mode: the object remesh button, the three presets, the overlay toggle
+    assert ["operator", "object.remesh_flat_regions"] in facts["panel_draws"]
+    assert facts["panel_draws"].count(["operator", "scene.flat_region_remesh_preset"]) == 3
+    assert ["operator", "view3d.flat_region_remesh_overlay"] in facts["panel_draws"]
 
-    op = facts["operator"]
-    assert {"REGISTER", "UNDO"} <= set(op["options"])
-    assert "degrees" in op["properties"]["min_angle"]
+    ops = facts["operators"]
+    assert set(ops) == set(OPERATORS)
+    for name in ("mesh.remesh_flat_regions", "object.remesh_flat_regions",
+                 "mesh.flip_to_better_angles", "mesh.select_thin_triangles"):
+        assert {"REGISTER", "UNDO"} <= set(ops[name]["options"]), name
+        assert ops[name]["description"], name
+    for name in ("mesh.remesh_flat_regions", "object.remesh_flat_regions"):
+        props = ops[name]["properties"]
+        assert set(props) == SETTINGS, name
+        assert props["min_angle"]["unit"] != "LENGTH" and "degrees" in \
+            props["min_angle"]["description"]
+        assert "scene units" in props["max_edge_length"]["description"]
+        assert "degrees" in props["flat_angle"]["description"]
+    assert set(ops["mesh.flip_to_better_angles"]["properties"]) == {
+        "flat_angle", "break_at_seams", "break_at_sharp", "break_at_material_borders"}
+    assert "degrees" in ops["mesh.select_thin_triangles"]["properties"]["min_angle"][
+        "description"]
 
     assert facts["disable"] == ["FINISHED"]
     off = facts["after_disable"]
-    assert off == {"enabled": False, "classes": [], "types": [], "operator": False,
-                   "scene_property": False, "menu_entries": []}
+    assert off == {"enabled": False, "classes": [], "types": [], "operators": [],
+                   "scene_property": False, "handlers": [],
+                   "menu_entries": {"VIEW3D_MT_select_edit_mesh": [],
+                                    "VIEW3D_MT_edit_mesh_faces": [],
+                                    "VIEW3D_MT_edit_mesh_context_menu": []}}
 
 
 def smallest_angles_3d(positions, faces):
@@ -211,7 +245,7 @@ def test_repository_addon_registers_in_the_host(tmp_path):
     facts, _ = run_host("repo_register.py", tmp_path, ROOT)
     assert facts["engine_module"] == "engine"
     assert Path(facts["engine_file"]).resolve().parent == (ROOT / "engine").resolve()
-    assert len(facts["registered"]) == 3 and facts["scene_property"]
+    assert len(facts["registered"]) == len(CLASSES) and facts["scene_property"]
     assert facts["select"] == ["FINISHED"]
     # a 24-triangle fan: every triangle has a 360/24 = 15 degree corner at the centre
     assert facts["circle_faces"] == 24 and facts["circle_selected"] == 24
