@@ -11,6 +11,9 @@ import engine
 
 from . import helpers as H
 
+# every test here runs on both Delaunay paths (sequential and numpy bulk)
+pytestmark = pytest.mark.usefixtures("delaunay_path")
+
 SQUARE = np.array([(0.0, 0.0), (1.0, 0.0), (1.0, 1.0), (0.0, 1.0)])
 
 

@@ -23,6 +23,9 @@ import engine
 
 from . import helpers as H
 
+# every test here runs on both Delaunay paths (sequential and numpy bulk)
+pytestmark = pytest.mark.usefixtures("delaunay_path")
+
 
 def _f(a):
     return np.asarray(a, dtype=np.float64)

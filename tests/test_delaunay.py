@@ -21,6 +21,9 @@ from engine import predicates
 
 from . import helpers as H
 
+# every test here runs on both Delaunay paths (sequential and numpy bulk)
+pytestmark = pytest.mark.usefixtures("delaunay_path")
+
 
 def _tri(points, **kw):
     return engine.triangulate(np.asarray(points, dtype=np.float64), **kw)

@@ -10,6 +10,9 @@ import shapely
 import engine
 from engine.validate import check_triangulation
 
+# every test here runs on both Delaunay paths (sequential and numpy bulk)
+pytestmark = pytest.mark.usefixtures("delaunay_path")
+
 
 def _loops(loops, extra=()):
     points, segments, offset = [], [], 0
