@@ -30,7 +30,8 @@ def test_zip_layout(built):
         assert zf.read("__init__.py") == (ROOT / "addon" / "__init__.py").read_bytes()
         assert zf.read("blender_manifest.toml") == (ROOT / "blender_manifest.toml").read_bytes()
     engine_files = {f"engine/{p.name}" for p in (ROOT / "engine").glob("*.py")}
-    addon_files = {p.name for p in (ROOT / "addon").glob("*.py")} - {"build.py"}
+    addon_files = {p.name for p in (ROOT / "addon").glob("*.py")} - build.NOT_SHIPPED
+    assert {"build.py", "batch.py", "demo_scene.py"} <= build.NOT_SHIPPED
     assert set(names) == {"blender_manifest.toml"} | engine_files | addon_files
     assert not [n for n in names if "test" in n or "__pycache__" in n or n.endswith(".pyc")]
 

@@ -48,8 +48,8 @@ def main(folder):
     clear_scene()
     link("Soup", corners.astype(np.float64), np.arange(len(corners)).reshape(-1, 3).tolist())
     export(folder / "soup.ply")
-    facts["soup_corners"] = int(len(corners))
-    facts["soup_positions"] = int(len(np.unique(corners, axis=0)))
+    facts["soup_corners"] = len(corners)
+    facts["soup_positions"] = len(np.unique(corners, axis=0))
 
     clear_scene()
     floor_verts, floor_faces = navmesh_floor()
