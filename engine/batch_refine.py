@@ -494,11 +494,19 @@ class _Rounds:
         """Rounds until no bad triangle and no encroached segment is left,
         or `cap` points are added.  Returns the number of points added."""
         added = 0
+        idle = 0
         todo = np.arange(self.ntri, dtype=np.int64)
         while len(todo):
             if added >= cap:
                 break
+            if idle >= 4:
+                # no progress (should not happen): the sequential refiner
+                # takes what is left
+                self.tail.extend(self._triangle_ids(np.unique(todo)))
+                todo = todo[:0]
+                break
             todo, n = self._round(todo, cap - added)
+            idle = idle + 1 if n == 0 else 0
             added += n
             self.rounds += 1
         self.todo = todo
@@ -539,7 +547,13 @@ class _Rounds:
                     seg_l.append(np.full(int(enc.sum()), np.nan))
         encroacher = np.zeros(len(t), dtype=bool)
         if seg_c:
-            encroacher[np.isin(t, np.concatenate(seg_c) // 3)] = True
+            cc = np.concatenate(seg_c)
+            if len(self.frozen_keys):
+                # a frozen segment is never split: nothing to wait for
+                cc = cc[~np.isin(self._edge_key(V[_nxt(cc)], V[_prv(cc)]), self.frozen_keys)]
+                seg_c = [cc]
+                seg_l = [np.full(len(cc), np.nan)]
+            encroacher[np.isin(t, cc // 3)] = True
 
         keep_next = encroacher.copy()       # triangles to look at again next round
         sel = np.flatnonzero(bad)

@@ -1314,8 +1314,34 @@ class _Refiner:
                 x[v] = nx
                 y[v] = ny
                 mesh.legalize_corners([c2 for c in star for c2 in (c, _next(c), _prev(c))])
-                return True
+                if self._size_kept_near(v):
+                    return True
+                # the flips made a triangle too large: move back (the
+                # constrained Delaunay triangulation of the old positions returns)
+                x[v] = vx
+                y[v] = vy
+                after = self._star(v) or star
+                mesh.legalize_corners([c2 for c in after for c2 in (c, _next(c), _prev(c))])
+                return False
         return False
+
+    def _size_kept_near(self, v):
+        """No triangle around v or around its neighbours breaks a size limit."""
+        if self.area2_limit == math.inf and self.edge2_limit == math.inf and self.grid is None:
+            return True
+        mesh = self.mesh
+        tv, x, y = mesh.tv, mesh.x, mesh.y
+        star = self._star(v)
+        if star is None:
+            return True
+        vertices = {v} | {tv[_next(c)] for c in star}
+        for w in vertices:
+            for c in mesh.corners_around(w):
+                b = c - c % 3
+                a0, a1, a2 = tv[b], tv[b + 1], tv[b + 2]
+                if self._size_bad(x[a0], y[a0], x[a1], y[a1], x[a2], y[a2]):
+                    return False
+        return True
 
     # ------------------------------------------------------------ output
     def result(self, tri):

@@ -543,5 +543,7 @@ def test_hypothesis_smoothing(loops):
     pts, segs, tri = setup(loops)
     out = engine.refine(tri, min_angle=30.0, smoothing=True, max_points=50000)
     check_valid(out, pts, segs, loops)
-    assert out.stats["smoothing_min_angle_after"] >= out.stats["smoothing_min_angle_before"]
+    # angles are recomputed in floating point after flips reorder a triangle's
+    # corners, so equality holds only to rounding (IEEE 754 double, common practice)
+    assert out.stats["smoothing_min_angle_after"] >= out.stats["smoothing_min_angle_before"] - 1e-9
     assert min_angles(out).min() >= 30.0
