@@ -636,6 +636,10 @@ def _to_mesh(xs, ys, idx, V, N, ntri):
     return mesh
 
 
+# above this share of points on the convex hull the sequential builder is faster
+HULL_SHARE_LIMIT = 0.25
+
+
 def bulk_delaunay(xs, ys, indices, seed=0, stats=None, flip_limit=4):
     """Delaunay triangulation of the distinct points `indices` of the
     coordinate sequences xs, ys, built by array rounds.  Returns a ghost-closed
@@ -659,6 +663,12 @@ def bulk_delaunay(xs, ys, indices, seed=0, stats=None, flip_limit=4):
     hull = convex_hull(X, Y)
     if len(hull) < 3:
         raise ValueError("need at least three distinct, non-collinear points")
+    if len(hull) > HULL_SHARE_LIMIT * n:
+        # mostly points in convex position (an outline of a convex shape):
+        # the fan of the hull would have to be flipped almost entirely, which
+        # one-at-a-time insertion avoids
+        from .delaunay import build_delaunay
+        return build_delaunay(xs, ys, indices, seed=seed, method="sequential")
     on_hull = np.zeros(n, dtype=bool)
     on_hull[hull] = True
     rest = np.flatnonzero(~on_hull)

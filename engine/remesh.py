@@ -29,7 +29,7 @@ import math
 import numpy as np
 
 from .cdt import triangulate
-from .flat_regions import EdgeTable, find_regions
+from .flat_regions import EdgeTable, find_regions, newell_normals
 from .legalize import mesh_from_triangles
 from .mesh_edit import MeshEdit, RegionReport, WeightRows
 from .polygons import PolygonList, check_mesh
@@ -176,6 +176,7 @@ class _EditBuilder:
         self.n = len(verts)
         self.next_of = polys.next_corner()
         self.face_of_corner = polys.face_of_corner()
+        self.face_areas = None
         self.faces_using_vertex = np.bincount(polys.corners, minlength=self.n)
         self.new_positions = []
         self.vweights = []           # per new vertex: [(original vertex, w)]
@@ -188,6 +189,7 @@ class _EditBuilder:
         self.new_face_region = []    # report index of the region each came from
         self.presplit = presplit or {}   # edge key -> parameters of points it must carry
         self.region_keys = []        # per changed region: its outline edge keys
+        self.split_counts = []       # per changed region: points on each key when it was done
         self.new_face_source = []
         self.new_corner_weights = []  # per new face: per corner [(original corner, w)]
         self.replaced = set()
@@ -375,12 +377,24 @@ class _EditBuilder:
             v = int(cv[c])
             region_corner_at.setdefault(v, c)
             face_corner[(int(polys_face_of[c]), v)] = c
-        tris_out = refined.triangles
-        centroids = out_pts[tris_out].mean(axis=1)
-        cen_tri, _ = locator.locate_many(centroids)
-        for (a, b, c), t_index in zip(tris_out.tolist(), cen_tri.tolist()):
+        # a new triangle's source face: the face holding one of its new
+        # interior vertices, else a region face at one of its corners (regions
+        # never cross a change of face data, so any of them carries the same)
+        default_face = faces[0]
+        for (a, b, c) in refined.triangles.tolist():
             ids = [vid_of[a], vid_of[b], vid_of[c]]
-            f = tri_corner[t_index][3]
+            f = -1
+            for x in ids:
+                if x in vertex_corner:
+                    f = self.vface[x - self.n]
+                    break
+            if f < 0:
+                for x in ids:
+                    if x < self.n and x in region_corner_at:
+                        f = int(polys_face_of[region_corner_at[x]])
+                        break
+                else:
+                    f = default_face
             weights = []
             for x in ids:
                 if x < self.n:
@@ -407,6 +421,7 @@ class _EditBuilder:
         for keys in segment_edge:
             keys_here.update(keys)
         self.region_keys.append(keys_here)
+        self.split_counts.append({k: len(self.edge_splits.get(k, ())) for k in keys_here})
         self.dropped.update(v for v in interior if v not in set(kept_interior))
         self.dropped.update(dropping)
         after = quality(refined.points, refined.triangles)
@@ -418,24 +433,19 @@ class _EditBuilder:
             reason=refined.stop_reason)
 
     def region_area(self, region):
-        polys = self.polys
-        total = 0.0
-        for f in region.faces:
-            p = self.verts[polys.face(f)]
-            total += 0.5 * float(np.linalg.norm(np.cross(p - p[0], np.roll(p, -1, axis=0) - p[0])
-                                                .sum(axis=0)))
-        return total
+        if self.face_areas is None:
+            self.face_areas = 0.5 * np.linalg.norm(newell_normals(self.verts, self.polys), axis=1)
+        return float(self.face_areas[region.faces].sum())
 
     def _degenerate(self, faces):
         """True when the faces' total area is nil next to their extent."""
+        if self.face_areas is None:
+            self.face_areas = 0.5 * np.linalg.norm(newell_normals(self.verts, self.polys), axis=1)
         polys = self.polys
-        pts = [self.verts[polys.face(f)] for f in faces]
-        span = np.ptp(np.vstack(pts), axis=0).max()
-        area = 0.0
-        for p in pts:
-            cross = np.cross(p - p[0], np.roll(p, -1, axis=0) - p[0]).sum(axis=0)
-            area += 0.5 * float(np.linalg.norm(cross))
-        return area <= 1e-12 * span * span
+        corners = np.concatenate([polys.corners[polys.starts[f]:polys.starts[f + 1]]
+                                  for f in faces])
+        span = float(np.ptp(self.verts[corners], axis=0).max())
+        return float(self.face_areas[faces].sum()) <= 1e-12 * span * span
 
     def _final_figures(self, out_faces, out_region, new_positions):
         """Triangle counts and smallest angles of each changed region as
@@ -583,8 +593,24 @@ class _EditBuilder:
             out_weights.append(new_w)
             self.replaced.add(f)
         out_region = [-1] * len(out_faces)
+        changed_index = {}
+        for i, report in enumerate(self.reports):
+            if report.status == "changed":
+                changed_index[i] = len(changed_index)
+        # a region needs points inserted only where a later region split one
+        # of its edges further
+        stale = {}
+        for i, k in changed_index.items():
+            counts = self.split_counts[k]
+            stale[i] = any(len(self.edge_splits.get(key, ())) != n for key, n in counts.items())
         for ids, f, weights, rid in zip(self.new_faces, self.new_face_source,
                                         self.new_corner_weights, self.new_face_region):
+            if not stale.get(rid, True):
+                out_faces.append(ids)
+                out_source.append(f)
+                out_weights.append(weights)
+                out_region.append(rid)
+                continue
             new_ids, new_w, slots = self._insert_splits(ids, weights)
             if len(new_ids) == 3:
                 out_faces.append(new_ids)
