@@ -10,7 +10,7 @@ L. P. Chew, "Constrained Delaunay triangulations", Algorithmica 4, 1989.
 
 import numpy as np
 
-from .constraints import SegmentInserter
+from .constraints import ConstraintError, SegmentInserter
 from .delaunay import build_delaunay
 from .mesh import int_array
 from .regions import FILL_RULES, kept_triangles
@@ -170,7 +170,12 @@ def triangulate(points, segments=None, *, holes=None, fill=None):
     inserter = SegmentInserter(mesh)
     rows = group_segments(merged[segs] if len(segs) else segs)
     for a, b, source, net, count in mark_existing_edges(mesh, inserter, rows):
-        inserter.insert(a, b, source, net, count)
+        try:
+            inserter.insert(a, b, source, net, count)
+        except ConstraintError as exc:
+            # a safety net: no input known today reaches it
+            raise ValueError(f"segment {source} ({a}-{b}) could not be inserted among "
+                             f"nearly coincident crossings: {exc}") from None
     kept = kept_triangles(mesh, fill, hole_pts.tolist())
     result = mesh_to_triangulation(mesh, kept, merged)
     result.stats["added_points"] = len(inserter.added)

@@ -115,6 +115,7 @@ class SegmentInserter:
 
     def _insert(self, a, b, source, net, count):
         work = [(a, b)]
+        seen = set()
         # every round either finishes a piece, splits it at an existing
         # vertex, or adds one crossing vertex; bound the rounds generously
         limit = 64 + 8 * len(self.mesh.x)
@@ -135,7 +136,15 @@ class SegmentInserter:
                 work.append((u, w))
             elif kind == "cross-constraint":  # u-v crosses constraint (c, d)
                 c, d = outcome[1], outcome[2]
-                w = self._split_constraint(u, v, c, d, source)
+                key = (u, v, min(c, d), max(c, d))
+                if key in seen:
+                    # rounded crossings of nearly parallel segments can route
+                    # two constraints round each other for ever: snap this
+                    # piece to the end of c-d nearest the crossing instead
+                    w = self._nearest_end(u, v, c, d)
+                else:
+                    seen.add(key)
+                    w = self._split_constraint(u, v, c, d, source)
                 work.append((w, v))
                 work.append((u, w))
             else:                              # crossing free edges only
@@ -144,6 +153,14 @@ class SegmentInserter:
                 self._mark(u, end, source, net, count)
                 if end != v:
                     work.append((end, v))
+
+    def _nearest_end(self, u, v, c, d):
+        """The end of c-d nearest to where u-v crosses it."""
+        exact = _exact_crossing(self.mesh, (u, v), (c, d))
+        if exact is None:
+            return c
+        x, y = self.mesh.x, self.mesh.y
+        return min((c, d), key=lambda w: float((x[w] - exact[0]) ** 2 + (y[w] - exact[1]) ** 2))
 
     # ------------------------------------------------------------- the walk
     def _walk(self, a, b, carrier=None):
