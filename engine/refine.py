@@ -235,6 +235,7 @@ class _Refiner:
                           failed_insertions=0, fallback_points=0, frozen_segments=0,
                           unfixable_fixed_boundary=0)
         self.unsplittable = set()
+        self.start = len(pts)
         self.fixed_keys = set()         # fixed_segments: never split, like keep_boundary
         self.fixed_vertices = None      # keep_boundary: vertices of fixed edges (lazy)
         self.seg_origin = {}          # Steiner vertex on a segment -> input endpoints (A, B)
@@ -831,6 +832,8 @@ class _Refiner:
                     return "rejected"
                 did = False
                 for u, v in todo:
+                    if len(mesh.x) - self.start >= self.cap:
+                        break           # the point cap is exact
                     c = self._edge_corner(u, v)
                     if c >= 0 and self._split_segment(c):
                         did = True
@@ -1145,7 +1148,7 @@ class _Refiner:
         for t in range(len(mesh.mark)):
             if tv[3 * t] != DEAD:
                 self._push_if_bad(t)
-        start = len(mesh.x)
+        start = self.start = len(mesh.x)
         heap, segq, big = self.heap, self.segq, self.big
         cap = self.cap
         fix = self._fix_triangle
@@ -1154,7 +1157,7 @@ class _Refiner:
         while True:
             if len(mesh.x) - start >= cap and (segq or heap or big):
                 self.complete = False
-                self.stop_reason = (f"max_points reached: {cap} points added, "
+                self.stop_reason = (f"max_points reached: {len(mesh.x) - start} points added, "
                                     f"{len(heap) + len(big)} triangles and {len(segq)} "
                                     "segments still queued")
                 break
