@@ -10,9 +10,9 @@ problems (empty when valid):
 * every edge that is not a constraint and has triangles on both sides is
   locally Delaunay (exact incircle <= 0);
 * every input segment (after duplicate merging) that touches the kept region
-  is covered by a chain of output segments: vertices of the chain lie on it
-  exactly, except points added at crossings, which must lie within 1e-9 of
-  its length from it;
+  is covered by a chain of output segments whose vertices lie on it exactly
+  or within 1e-9 of its length from it (crossings are rounded to doubles and
+  may land on, or be routed through, a vertex that close);
 * with points_used=True, every distinct input point is a triangle vertex.
 """
 
@@ -106,11 +106,10 @@ def _check_coverage(tri, segments):
             t = ((wx - ax) * (bx - ax) + (wy - ay) * (by - ay)) / length2
             if not (-1e-12 <= t <= 1 + 1e-12):
                 continue
-            if w < n_input:
-                on = orient2d(ax, ay, bx, by, wx, wy) == 0
-            else:
-                dist = abs((bx - ax) * (wy - ay) - (by - ay) * (wx - ax)) / length2
-                on = dist <= 1e-9
+            # exactly on it, or (a crossing rounded onto a vertex) within
+            # 1e-9 of its length from it
+            dist = abs((bx - ax) * (wy - ay) - (by - ay) * (wx - ax)) / length2
+            on = dist <= 1e-9 or (w < n_input and orient2d(ax, ay, bx, by, wx, wy) == 0)
             if on:
                 chain.append((t, w))
         near = {w for _, w in chain}
