@@ -93,7 +93,7 @@ def _check_coverage(tri, segments):
     used = np.zeros(len(pts), dtype=bool)
     used[np.asarray(tri.triangles).ravel()] = True
     for i, (a, b) in enumerate(tri.merged_into[segments].tolist()):
-        if a == b or not (used[a] and used[b]):
+        if a == b:
             continue
         if (min(a, b), max(a, b)) in seg_set:
             continue
@@ -112,10 +112,7 @@ def _check_coverage(tri, segments):
             on = dist <= 1e-9 or (w < n_input and orient2d(ax, ay, bx, by, wx, wy) == 0)
             if on:
                 chain.append((t, w))
-        near = {w for _, w in chain}
-        if a not in near or b not in near:
-            problems.append(f"input segment {i} ({a}-{b}) not covered at its ends")
-            continue
+        near = {w for _, w in chain} | {a, b}
         # a chain of output segments through vertices on (or, for crossing
         # points, within rounding of) the input segment joins a to b
         seen = {a}
@@ -126,6 +123,33 @@ def _check_coverage(tri, segments):
                 if q in near and q not in seen:
                     seen.add(q)
                     stack.append(q)
-        if b not in seen:
-            problems.append(f"input segment {i} ({a}-{b}) is not covered by output segments")
+        if b in seen:
+            continue
+        # otherwise every gap of the chain must lie outside the kept region
+        # (part of a segment can run outside it, e.g. along a hole that
+        # touches the outline)
+        order = [w for _, w in sorted(chain + [(0.0, a), (1.0, b)])]
+        for p, q in zip(order, order[1:]):
+            if p == q or (min(p, q), max(p, q)) in seg_set:
+                continue
+            mid = 0.5 * (pts[p] + pts[q])
+            if _inside_any(pts, np.asarray(tri.triangles), mid):
+                problems.append(f"input segment {i} ({a}-{b}) is not covered by output "
+                                f"segments between points {p} and {q}")
+                break
     return problems
+
+
+def _inside_any(pts, tris, point):
+    """True when point lies strictly inside some triangle (float test with a
+    relative margin: used only to tell a gap outside the region from one inside)."""
+    p = pts[tris]
+    scale = float(np.abs(p).max()) or 1.0
+    eps = 1e-12 * scale * scale
+    inside = np.ones(len(tris), dtype=bool)
+    for k in range(3):
+        a = p[:, (k + 1) % 3]
+        b = p[:, (k + 2) % 3]
+        o = (a[:, 0] - point[0]) * (b[:, 1] - point[1]) - (a[:, 1] - point[1]) * (b[:, 0] - point[0])
+        inside &= o > eps
+    return bool(inside.any())
