@@ -94,15 +94,26 @@ def remesh_flat_regions(vertices, faces, *, face_mask=None, flat_angle=1.0, flat
                    size_growth=size_growth, max_points=max_points)
     dropped_border = set()
     if straighten_tolerance is not None and not keep_boundary:
-        probe = _EditBuilder(verts, polys, edges, break_ids, bool(keep_interior_vertices))
-        usable = [rid for rid, region in enumerate(regions) if probe.precheck(region)]
-        dropped_border = straight_run_vertices(
-            verts, polys, edges, region_of_face, regions, break_ids,
-            float(straighten_tolerance), usable_regions=usable)
+        # a border vertex may go only if every region using it will change:
+        # check the regions with the vertices gone, until the choice settles
+        usable = list(range(len(regions)))
+        for _ in range(6):
+            probe = _EditBuilder(verts, polys, edges, break_ids, bool(keep_interior_vertices),
+                                 straighten=float(straighten_tolerance))
+            probe.dropped_border = dropped_border
+            usable = [rid for rid in usable if probe.precheck(regions[rid])]
+            again = straight_run_vertices(
+                verts, polys, edges, region_of_face, regions, break_ids,
+                float(straighten_tolerance), usable_regions=usable)
+            if again == dropped_border:
+                break
+            dropped_border = again
+        else:
+            dropped_border = set()
 
     def run(presplit):
         builder = _EditBuilder(verts, polys, edges, break_ids, bool(keep_interior_vertices),
-                               presplit=presplit)
+                               presplit=presplit, straighten=straighten_tolerance or 0.0)
         builder.dropped_border = dropped_border
         for rid in sorted(range(len(regions)), key=lambda r: builder.region_area(regions[r])):
             builder.remesh_region(rid, regions[rid], options)
@@ -167,7 +178,8 @@ def _frame(normal):
 class _EditBuilder:
     """Accumulates the MeshEdit while regions are processed one by one."""
 
-    def __init__(self, verts, polys, edges, break_ids, keep_interior, presplit=None):
+    def __init__(self, verts, polys, edges, break_ids, keep_interior, presplit=None,
+                 straighten=0.0):
         self.verts = verts
         self.polys = polys
         self.edges = edges
@@ -177,6 +189,7 @@ class _EditBuilder:
         self.next_of = polys.next_corner()
         self.face_of_corner = polys.face_of_corner()
         self.face_areas = None
+        self.straighten = float(straighten)
         self.faces_using_vertex = np.bincount(polys.corners, minlength=self.n)
         self.new_positions = []
         self.vweights = []           # per new vertex: [(original vertex, w)]
@@ -329,8 +342,14 @@ class _EditBuilder:
         if (tri.merged_into != np.arange(len(pts2))).any():
             raise RegionSkipped("outline vertices coincide in the plane")
         face_area = self._projected_area(face_tris, proj)
+        # straightened runs move the outline by up to the tolerance
+        slack = 0.0
+        if dropping:
+            slack = self.straighten * sum(
+                math.dist(pts2[index[c[0]]], pts2[index[c[-1]]]) for c, keys in chains
+                if any(isinstance(k, tuple) for k in keys))
         if len(tri.triangles) == 0 or abs(tri.area() - face_area) > 1e-7 * max(face_area, 1e-300) \
-                + 1e-12 * float(np.abs(pts2).max()) ** 2:
+                + 1e-12 * float(np.abs(pts2).max()) ** 2 + slack:
             raise RegionSkipped("outline does not match the faces (overlapping or folded faces)")
         if options is None:
             return None
