@@ -27,6 +27,11 @@ from .mesh import DEAD, GHOST, next_corner, prev_corner
 from .predicates import orient2d
 
 
+# re-inserting a constraint through a crossing may meet further crossings;
+# beyond this nesting the input is refused instead of recursing on
+MAX_NESTING = 48
+
+
 class ConstraintError(RuntimeError):
     """Raised when a segment cannot be recovered (indicates a corrupt mesh)."""
 
@@ -59,6 +64,7 @@ class SegmentInserter:
         self.added = []          # vertex indices created at crossings
         self.released = []       # edges whose constraint was released and re-inserted
         self.depth = 0
+        self.budget = 0
         # source segment -> its two input endpoints: the exact line on which
         # input vertices split it, even for pieces that end at rounded crossings
         self.carrier = {}
@@ -98,6 +104,13 @@ class SegmentInserter:
             mesh.set_constraint(c, True)
             mesh.add_constraint_info(a, b, source, net, count)
             return
+        if self.depth == 0:
+            # one budget for the segment and every constraint re-inserted
+            # through its crossings, however deep
+            self.budget = 256 + 16 * len(self.mesh.x)
+        if self.depth > MAX_NESTING:
+            raise ConstraintError("crossings nested too deep (nearly collinear segments "
+                                  "crossing within rounding of each other)")
         self.depth += 1
         try:
             self._insert(a, b, source, net, count)
@@ -121,7 +134,8 @@ class SegmentInserter:
         limit = 64 + 8 * len(self.mesh.x)
         while work:
             limit -= 1
-            if limit < 0:
+            self.budget -= 1
+            if limit < 0 or self.budget < 0:
                 raise ConstraintError(f"segment {a}-{b} could not be recovered")
             u, v = work.pop()
             if u == v:
