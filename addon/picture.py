@@ -90,7 +90,7 @@ def before_after_svg(before, after, title, figures, threshold=30.0):
     parts = [
         f'<svg xmlns="http://www.w3.org/2000/svg" width="{width:.0f}" height="{total_h:.0f}" '
         f'viewBox="0 0 {width:.0f} {total_h:.0f}" font-family="sans-serif">',
-        f'<rect width="100%" height="100%" fill="#fbfbf7"/>',
+        '<rect width="100%" height="100%" fill="#fbfbf7"/>',
         f'<text x="{MARGIN}" y="28" font-size="18">{escape(title)}</text>',
         f'<text x="{MARGIN}" y="{top - 8}" font-size="14">before: {len(before)} faces</text>',
         f'<text x="{PANEL + MARGIN}" y="{top - 8}" font-size="14">after: {len(after)} faces'

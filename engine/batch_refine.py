@@ -83,7 +83,6 @@ import numpy as np
 
 from .bulk_delaunay import incircle_sign, orient_sign
 from .mesh import DEAD
-from .quality import quality
 from .triangulation import Triangulation
 
 _BIG = np.iinfo(np.int64).max
@@ -1152,7 +1151,7 @@ def refine_batched(tri, ref, smoothing=False, smoothing_passes=4):
                  sequential_tail=len(tail), method="batched")
     if not need_tail:
         out = rounds.triangulation(tri.merged_into)
-        return _finish(ref, tri, out)
+        return ref.finish(tri, out)
     rounds.load_into(ref)
     if tail:
         _run_tail(ref, [x for x in tail], cap - added)
@@ -1160,29 +1159,6 @@ def refine_batched(tri, ref, smoothing=False, smoothing_passes=4):
         ref.smooth(smoothing_passes)
     out = ref.result(tri)
     out.stats["method"] = "batched"
-    return out
-
-
-def _finish(ref, tri, out):
-    out.complete = ref.complete
-    out.stop_reason = ref.stop_reason
-    q0 = quality(tri.points, tri.triangles)
-    q1 = quality(out.points, out.triangles)
-    stats = dict(ref.stats)
-    stats.update(
-        min_angle_requested=ref.min_angle,
-        min_angle_before=q0.min_angle,
-        min_angle_after=q1.min_angle,
-        triangles_before=int(len(tri.triangles)),
-        triangles_after=int(len(out.triangles)),
-        points_before=int(len(tri.points)),
-        points_after=int(len(out.points)),
-        added_points=int(len(out.points) - len(tri.points)),
-        below_min_angle_before=q0.count_below(ref.min_angle),
-        below_min_angle_after=q1.count_below(ref.min_angle),
-        small_input_angle_vertices=len(ref.small_apex),
-    )
-    out.stats = stats
     return out
 
 

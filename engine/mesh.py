@@ -33,7 +33,7 @@ from array import array
 
 import numpy as np
 
-from .predicates import (CCW_BOUND, INCIRCLE_BOUND, INCIRCLE_LOOSE, incircle, incircle_exact,
+from .predicates import (CCW_BOUND, INCIRCLE_LOOSE, incircle, incircle_exact,
                          orient2d, orient2d_exact)
 
 GHOST = -1
@@ -492,7 +492,7 @@ class Mesh:
 
         For a mesh with open borders the fan may be cut; then it is returned
         from one border to the other."""
-        tv, tn = self.tv, self.tn
+        tn = self.tn
         c0 = self.corner_of_vertex(v)
         if c0 < 0:
             return []
@@ -643,7 +643,6 @@ class Mesh:
     def legalize_edges(self, pairs):
         """Lawson's flip algorithm from suspect edges given as vertex pairs
         (robust to flips that move edges between corners); returns flips made."""
-        tv = self.tv
         stack = []
         for u, v in pairs:
             c = self.edge_corner_fast(u, v)

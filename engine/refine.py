@@ -63,15 +63,17 @@ not all be strictly counter-clockwise.
 
 import heapq
 import math
-from array import array
 from collections import deque
 
 import numpy as np
 
+from .cdt import mesh_to_triangulation
 from .legalize import mesh_from_triangles
 from .mesh import DEAD
 from .predicates import CCW_BOUND, INCIRCLE_LOOSE, incircle_exact, orient2d, orient2d_exact
 from .quality import quality
+from .smoothing import SmoothingSteps
+from .size_fields import RELAX_GROWTH, RelaxGrid, SizeGrid
 from .triangulation import Triangulation
 
 # the published Ruppert/Shewchuk guarantee, arcsin(1 / (2 sqrt 2)) in degrees
@@ -198,7 +200,7 @@ def refine(tri, *, min_angle=30.0, max_area=None, max_edge=None, keep_boundary=F
     return ref.result(tri)
 
 
-class _Refiner:
+class _Refiner(SmoothingSteps):
     """The refinement state: an open-bordered Mesh over the kept region plus
     the queues of encroached segments and bad triangles."""
 
@@ -248,7 +250,7 @@ class _Refiner:
         # the input need not be constrained Delaunay: make it so (no point moves)
         mesh.legalize_corners(range(len(mesh.tv)))
         self.small_apex = self._small_angle_apexes()
-        self.grid = _SizeGrid(mesh, self.n0, size_growth, max_edge) if size_growth else None
+        self.grid = SizeGrid(mesh, self.n0, size_growth, max_edge) if size_growth else None
         self.relax = None
 
     def prepare_relaxation(self):
@@ -275,7 +277,7 @@ class _Refiner:
             if math.hypot(x[u] - x[v], y[u] - y[v]) > target:
                 fixed.append((x[u], y[u], x[v], y[v]))
         if fixed:
-            self.relax = _RelaxGrid(mesh, np.array(fixed), RELAX_GROWTH)
+            self.relax = RelaxGrid(mesh, np.array(fixed), RELAX_GROWTH)
 
     # ------------------------------------------------------------ set-up
     def _mark_constraints(self, tri):
@@ -1180,176 +1182,15 @@ class _Refiner:
                 continue
             fix(t, key)
 
-    # ------------------------------------------------------------ smoothing
-    def smooth(self, passes):
-        """Optimal-Delaunay smoothing of interior Steiner vertices; a move is
-        kept only when it raises the smallest angle around the vertex; Lawson
-        flips follow every kept move."""
-        before = self._min_angle_now()
-        moved = 0
-        movable = self._movable_vertices()
-        for _ in range(passes):
-            moved_now = 0
-            for v in movable:
-                if self._smooth_vertex(v):
-                    moved_now += 1
-            moved += moved_now
-            if not moved_now:
-                break
-        self.stats["smoothing_moves"] = moved
-        self.stats["smoothing_min_angle_before"] = before
-        self.stats["smoothing_min_angle_after"] = self._min_angle_now()
-
-    def _boundary_vertices(self):
-        """Vertices of constrained or border edges."""
-        mesh = self.mesh
-        tv, tn, tc = mesh.tv, mesh.tn, mesh.tc
-        fixed = set()
-        for c in range(len(tv)):
-            if tv[c] == DEAD:
-                continue
-            if tc[c] or tn[c] < 0:
-                fixed.add(tv[_next(c)])
-                fixed.add(tv[_prev(c)])
-        return fixed
-
-    def _movable_vertices(self):
-        fixed = self._boundary_vertices()
-        mesh = self.mesh
-        return [v for v in range(self.n0, len(mesh.x)) if v not in fixed and mesh.vt[v] >= 0]
-
-    def _min_angle_now(self):
-        tris = self._live_triangles()
-        if not len(tris):
-            return float("nan")
-        pts = np.column_stack((np.asarray(self.mesh.x), np.asarray(self.mesh.y)))
-        return quality(pts, tris).min_angle
-
-    def _live_triangles(self):
-        tv = np.asarray(self.mesh.tv, dtype=np.int64).reshape(-1, 3)
-        return tv[tv[:, 0] != DEAD]
-
-    def _star(self, v):
-        """Corners at v in a closed fan, or None when the fan is open."""
-        mesh = self.mesh
-        tn = mesh.tn
-        c0 = mesh.corner_of_vertex(v)
-        if c0 < 0:
-            return None
-        out = [c0]
-        c = c0
-        for _ in range(1000):
-            nb = tn[_next(c)]
-            if nb < 0:
-                return None
-            c = _next(nb)
-            if c == c0:
-                return out
-            out.append(c)
-        return None
-
-    def _star_min_sin2(self, star, v, px, py):
-        """Smallest sin^2(angle) over the triangles of the star with v placed at
-        p; -1 when one of them is not strictly counter-clockwise or breaks a
-        size limit."""
-        mesh = self.mesh
-        tv, x, y = mesh.tv, mesh.x, mesh.y
-        worst = 2.0
-        grid = self.grid
-        for c in star:
-            a, b = tv[_next(c)], tv[_prev(c)]
-            ax, ay, bx, by = x[a], y[a], x[b], y[b]
-            if orient2d(px, py, ax, ay, bx, by) <= 0:
-                return -1.0
-            l0 = (ax - bx) ** 2 + (ay - by) ** 2
-            l1 = (bx - px) ** 2 + (by - py) ** 2
-            l2 = (px - ax) ** 2 + (py - ay) ** 2
-            area2 = (ax - px) * (by - py) - (ay - py) * (bx - px)
-            hi = max(l0, l1, l2)
-            if area2 > self.area2_limit or hi > self.edge2_limit:
-                return -1.0
-            if grid is not None:
-                h = grid.size_at((px + ax + bx) / 3.0, (py + ay + by) / 3.0)
-                if hi > h * h:
-                    return -1.0
-            s2 = area2 * area2 * min(l0, l1, l2) / (l0 * l1 * l2)
-            if s2 < worst:
-                worst = s2
-        return worst
-
-    def _smooth_vertex(self, v):
-        mesh = self.mesh
-        tv, x, y = mesh.tv, mesh.x, mesh.y
-        star = self._star(v)
-        if star is None:
-            return False
-        vx, vy = x[v], y[v]
-        current = self._star_min_sin2(star, v, vx, vy)
-        if current < 0.0:
-            return False        # breaks a limit where it stands: leave it
-        if current >= self.sin2_bound * 1.6 and current > 0.6:
-            return False        # already well shaped: leave it
-        # optimal Delaunay update: area-weighted circumcenters
-        sw = sx = sy = 0.0
-        for c in star:
-            a, b = tv[_next(c)], tv[_prev(c)]
-            ax, ay, bx, by = x[a] - vx, y[a] - vy, x[b] - vx, y[b] - vy
-            d = 2.0 * (ax * by - ay * bx)
-            if d <= 0.0:
-                return False
-            al = ax * ax + ay * ay
-            bl = bx * bx + by * by
-            ux = (by * al - ay * bl) / d
-            uy = (ax * bl - bx * al) / d
-            w = 0.5 * d
-            sw += w
-            sx += w * ux
-            sy += w * uy
-        if sw <= 0.0:
-            return False
-        tx, ty = vx + sx / sw, vy + sy / sw
-        for f in (1.0, 0.5, 0.25):
-            nx = vx + f * (tx - vx)
-            ny = vy + f * (ty - vy)
-            if (nx, ny) == (vx, vy):
-                break
-            if self._star_min_sin2(star, v, nx, ny) > current:
-                x[v] = nx
-                y[v] = ny
-                mesh.legalize_corners([c2 for c in star for c2 in (c, _next(c), _prev(c))])
-                if self._size_kept_near(v):
-                    return True
-                # the flips made a triangle too large: move back (the
-                # constrained Delaunay triangulation of the old positions returns)
-                x[v] = vx
-                y[v] = vy
-                after = self._star(v) or star
-                mesh.legalize_corners([c2 for c in after for c2 in (c, _next(c), _prev(c))])
-                return False
-        return False
-
-    def _size_kept_near(self, v):
-        """No triangle around v or around its neighbours breaks a size limit."""
-        if self.area2_limit == math.inf and self.edge2_limit == math.inf and self.grid is None:
-            return True
-        mesh = self.mesh
-        tv, x, y = mesh.tv, mesh.x, mesh.y
-        star = self._star(v)
-        if star is None:
-            return True
-        vertices = {v} | {tv[_next(c)] for c in star}
-        for w in vertices:
-            for c in mesh.corners_around(w):
-                b = c - c % 3
-                a0, a1, a2 = tv[b], tv[b + 1], tv[b + 2]
-                if self._size_bad(x[a0], y[a0], x[a1], y[a1], x[a2], y[a2]):
-                    return False
-        return True
-
     # ------------------------------------------------------------ output
     def result(self, tri):
+        """The refined Triangulation with its figures (see finish)."""
         mesh = self.mesh
-        out = _to_triangulation(mesh, np.asarray(tri.merged_into))
+        live = [t for t in range(len(mesh.mark)) if mesh.tv[3 * t] != DEAD]
+        return self.finish(tri, mesh_to_triangulation(mesh, live, tri.merged_into))
+
+    def finish(self, tri, out):
+        """Set the completion flag, stop reason and before/after figures on out."""
         out.complete = self.complete
         out.stop_reason = self.stop_reason
         q0 = quality(tri.points, tri.triangles)
@@ -1370,126 +1211,3 @@ class _Refiner:
         )
         out.stats = stats
         return out
-
-
-def _int_array(values):
-    """A Python list of ints as an int64 array (faster than np.asarray)."""
-    return np.frombuffer(array("q", values), dtype=np.int64)
-
-
-def _to_triangulation(mesh, merged_into):
-    """Arrays of every live triangle of `mesh` (the same layout as
-    engine.cdt.mesh_to_triangulation, with faster list conversion)."""
-    tv_all = _int_array(mesh.tv).reshape(-1, 3)
-    live = tv_all[:, 0] != DEAD
-    slots = np.flatnonzero(live)
-    triangles = tv_all[slots]
-    new_index = np.full(len(tv_all) + 1, -1, dtype=np.int64)
-    new_index[slots] = np.arange(len(slots))
-    nb = _int_array(mesh.tn).reshape(-1, 3)[slots]
-    neighbors = np.where(nb >= 0, new_index[nb // 3], -1)
-    tc = np.frombuffer(array("b", mesh.tc), dtype=np.int8).reshape(-1, 3)[slots]
-    rows, ks = np.nonzero(tc)
-    u = triangles[rows, (ks + 1) % 3]
-    v = triangles[rows, (ks + 2) % 3]
-    if len(u):
-        keys = np.unique(np.column_stack((np.minimum(u, v), np.maximum(u, v))), axis=0)
-    else:
-        keys = np.zeros((0, 2), dtype=np.int64)
-    info = mesh.constraint_info
-    source = np.array([info[(a, b)][0] for a, b in keys.tolist()], dtype=np.int64)
-    points = np.column_stack((np.asarray(mesh.x, dtype=np.float64),
-                              np.asarray(mesh.y, dtype=np.float64)))
-    return Triangulation(points=points, triangles=triangles.copy(), neighbors=neighbors,
-                         segments=keys.reshape(-1, 2), segment_source=source,
-                         merged_into=np.asarray(merged_into, dtype=np.int64))
-
-
-class _SizeGrid:
-    """Graded size h(x) = min_v (s_v + g |x - v|) sampled on a grid of about
-    128 x 128 cells over the mesh; size_at returns a value never above h."""
-
-    def __init__(self, mesh, n0, growth, max_edge):
-        xs = np.asarray(mesh.x[:n0])
-        ys = np.asarray(mesh.y[:n0])
-        tv = np.asarray(mesh.tv, dtype=np.int64).reshape(-1, 3)
-        tv = tv[tv[:, 0] != DEAD]
-        used = np.unique(tv)
-        # s_v: the shortest edge at each input vertex
-        a = tv.ravel()
-        b = tv[:, [1, 2, 0]].ravel()
-        length = np.hypot(xs[a] - xs[b], ys[a] - ys[b])
-        s = np.full(n0, np.inf)
-        np.minimum.at(s, a, length)
-        np.minimum.at(s, b, length)
-        vx, vy, sv = xs[used], ys[used], s[used]
-        GX, GY = _grid_frame(self, vx, vy)
-        node = np.full(GX.shape, np.inf)
-        # exact h at the grid nodes, in chunks of input vertices
-        for i in range(0, len(vx), 256):
-            d = np.hypot(GX[..., None] - vx[i:i + 256], GY[..., None] - vy[i:i + 256])
-            np.minimum(node, (sv[i:i + 256] + growth * d).min(axis=2), out=node)
-        # a point of a cell is within cell*sqrt(2) of each corner
-        low = np.minimum(np.minimum(node[:-1, :-1], node[1:, :-1]),
-                         np.minimum(node[:-1, 1:], node[1:, 1:]))
-        low = low - growth * self.cell * math.sqrt(2.0)
-        floor = float(sv.min())
-        low = np.maximum(low, floor)
-        if max_edge is not None:
-            low = np.minimum(low, max_edge)
-        self.values = low.tolist()
-        self.floor = floor
-
-    def size_at(self, px, py):
-        return _grid_value(self, px, py)
-
-
-# how fast the relaxed size shrinks away from a long fixed edge (units per unit)
-RELAX_GROWTH = 0.5
-
-
-class _RelaxGrid:
-    """r(x) = max over long fixed edges e of (|e| - g * dist(x, e)), sampled
-    on a grid of about 128 x 128 cells; size_at gives the largest value over
-    the cell's corners plus the Lipschitz slack (a generous bound: it only
-    waives size limits, never angle limits)."""
-
-    def __init__(self, mesh, edges, growth):
-        GX, GY = _grid_frame(self, np.asarray(mesh.x), np.asarray(mesh.y))
-        node = np.full(GX.shape, -np.inf)
-        for i in range(0, len(edges), 128):
-            e = edges[i:i + 128]
-            ax, ay, bx, by = (e[:, k] for k in range(4))
-            dx, dy = bx - ax, by - ay
-            length2 = dx * dx + dy * dy
-            t = ((GX[..., None] - ax) * dx + (GY[..., None] - ay) * dy) / length2
-            t = np.clip(t, 0.0, 1.0)
-            dist = np.hypot(GX[..., None] - (ax + t * dx), GY[..., None] - (ay + t * dy))
-            np.maximum(node, (np.sqrt(length2) - growth * dist).max(axis=2), out=node)
-        high = np.maximum(np.maximum(node[:-1, :-1], node[1:, :-1]),
-                          np.maximum(node[:-1, 1:], node[1:, 1:]))
-        high = high + growth * self.cell * math.sqrt(2.0)
-        self.values = np.maximum(high, 0.0).tolist()
-
-    def size_at(self, px, py):
-        return _grid_value(self, px, py)
-
-
-def _grid_frame(grid, xs, ys, cells=128):
-    """Set grid.x0, y0, cell, nx, ny for about cells x cells square cells over
-    the points; return the node coordinates (ny + 1, nx + 1) as GX, GY."""
-    x0, x1 = float(xs.min()), float(xs.max())
-    y0, y1 = float(ys.min()), float(ys.max())
-    grid.cell = (max(x1 - x0, y1 - y0) or 1.0) / cells
-    grid.x0, grid.y0 = x0, y0
-    grid.nx = int(math.ceil((x1 - x0) / grid.cell)) + 1
-    grid.ny = int(math.ceil((y1 - y0) / grid.cell)) + 1
-    return np.meshgrid(x0 + grid.cell * np.arange(grid.nx + 1),
-                       y0 + grid.cell * np.arange(grid.ny + 1))
-
-
-def _grid_value(grid, px, py):
-    """grid.values of the cell holding (px, py), clamped to the grid."""
-    i = min(max(int((px - grid.x0) / grid.cell), 0), grid.nx - 1)
-    j = min(max(int((py - grid.y0) / grid.cell), 0), grid.ny - 1)
-    return grid.values[j][i]

@@ -21,7 +21,7 @@ from collections import defaultdict, deque
 
 import numpy as np
 
-from .mesh import NEXT, PREV, int_array
+from .mesh import int_array
 
 FILL_RULES = ("hull", "even-odd", "nonzero")
 

@@ -298,7 +298,6 @@ class _EditBuilder:
         border_vertices = {u for u, _, _, _ in border} | {v for _, v, _, _ in border}
         dropping = self.dropped_border & border_vertices
         inner_vertices = {u for u, _, _, _ in inner} | {v for _, v, _, _ in inner}
-        region_face_set = set(faces)
         interior = region_vertices - border_vertices
         uses = {}
         for c in corners.tolist():
