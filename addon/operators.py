@@ -368,7 +368,7 @@ class SCENE_OT_flat_region_remesh_preset(bpy.types.Operator):
     """Set the remesh settings for a common job"""
 
     bl_idname = "scene.flat_region_remesh_preset"
-    bl_label = "Remesh Preset"
+    bl_label = "Apply Trade Preset"
     bl_options = {'REGISTER', 'UNDO'}  # noqa: RUF012
 
     preset: EnumProperty(

@@ -1,4 +1,4 @@
-"""The "Remesh" tab of the 3D View sidebar and the menu entries."""
+"""The "Flat Regions" tab of the 3D View sidebar and the menu entries."""
 
 import bpy
 
@@ -70,7 +70,7 @@ class VIEW3D_PT_flat_region_remesh(bpy.types.Panel):
 
     bl_space_type = 'VIEW_3D'
     bl_region_type = 'UI'
-    bl_category = "Remesh"
+    bl_category = "Flat Regions"
     bl_label = "Flat Region Remesh"
 
     def draw(self, context):

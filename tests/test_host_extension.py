@@ -156,7 +156,7 @@ def test_install_enable_and_disable_in_the_host(extension_zip, tmp_path):
     for name, prop in facts["last_run"].items():
         assert prop["description"], name
 
-    assert facts["panel"] == {"space": "VIEW_3D", "region": "UI", "category": "Remesh"}
+    assert facts["panel"] == {"space": "VIEW_3D", "region": "UI", "category": "Flat Regions"}
     drawn = [name for kind, name in facts["panel_draws"] if kind == "prop"]
     assert sorted(drawn) == sorted(SETTINGS)  # every setting, once
     # Object Mode: the object remesh button, the three presets, the overlay toggle
