@@ -123,22 +123,3 @@ def _weighted(values, starts, indices, weights):
     out = np.zeros(out_shape, dtype=np.float64)
     np.add.at(out, rows, contrib)
     return out
-
-
-class WeightRows:
-    """Builder for compressed weight rows."""
-
-    def __init__(self):
-        self.starts = [0]
-        self.indices = []
-        self.values = []
-
-    def add(self, pairs):
-        for i, w in pairs:
-            self.indices.append(int(i))
-            self.values.append(float(w))
-        self.starts.append(len(self.indices))
-
-    def arrays(self):
-        return (np.asarray(self.starts, dtype=np.int64), np.asarray(self.indices, dtype=np.int64),
-                np.asarray(self.values, dtype=np.float64))

@@ -31,9 +31,10 @@ import numpy as np
 from .cdt import triangulate
 from .flat_regions import EdgeTable, find_regions, newell_normals
 from .legalize import mesh_from_triangles
-from .mesh_edit import MeshEdit, RegionReport, WeightRows
+from .edit_store import FaceStore, TriangleBlock, VertexStore
+from .mesh_edit import MeshEdit, RegionReport
 from .polygons import PolygonList, check_mesh
-from .predicates import orient2d
+from .predicates import orient2d, orient2d_many
 from .quality import quality
 from .ordering import hilbert_keys
 from .straighten import straight_run_vertices
@@ -191,20 +192,13 @@ class _EditBuilder:
         self.face_areas = None
         self.straighten = float(straighten)
         self.faces_using_vertex = np.bincount(polys.corners, minlength=self.n)
-        self.new_positions = []
-        self.vweights = []           # per new vertex: [(original vertex, w)]
-        self.vcorner = []            # per new interior vertex: [(original corner, w)] or None
-        self.vface = []
-        self.vedge = []
+        self.vstore = VertexStore(self.n)   # the new vertices with their weights
         self.on_edge = {}            # new vertex -> (edge id, t from lo to hi)
         self.edge_splits = {}        # edge id -> [(t, new vertex)]
-        self.new_faces = []          # lists of vertex ids
-        self.new_face_region = []    # report index of the region each came from
+        self.region_blocks = []      # per changed region: (report index, TriangleBlock)
         self.presplit = presplit or {}   # edge key -> parameters of points it must carry
         self.region_keys = []        # per changed region: its outline edge keys
         self.split_counts = []       # per changed region: points on each key when it was done
-        self.new_face_source = []
-        self.new_corner_weights = []  # per new face: per corner [(original corner, w)]
         self.replaced = set()
         self.dropped = set()
         self.dropped_border = set()
@@ -212,19 +206,7 @@ class _EditBuilder:
 
     # ------------------------------------------------------------ vertices
     def position(self, vid):
-        return self.verts[vid] if vid < self.n else self.new_positions[vid - self.n]
-
-    def _add_vertex(self, pos, weights, corner_weights, face, edge):
-        vid = self.n + len(self.new_positions)
-        self.new_positions.append(np.asarray(pos, dtype=np.float64))
-        merged = {}
-        for v, w in weights:
-            merged[v] = merged.get(v, 0.0) + w
-        self.vweights.append(list(merged.items()))
-        self.vcorner.append(corner_weights)
-        self.vface.append(face)
-        self.vedge.append(edge)
-        return vid
+        return self.verts[vid] if vid < self.n else self.vstore.position(vid)
 
     def _ends(self, key):
         """(lo, hi) of an outline edge key: an original edge id, or
@@ -238,7 +220,7 @@ class _EditBuilder:
         """A new vertex on outline edge e (see _ends) at parameter t (lo -> hi)."""
         lo, hi = self._ends(e)
         pos = self.verts[lo] + t * (self.verts[hi] - self.verts[lo])
-        vid = self._add_vertex(pos, [(lo, 1.0 - t), (hi, t)], None, -1, (lo, hi))
+        vid = self.vstore.add(pos, [(lo, 1.0 - t), (hi, t)], -1, (lo, hi))
         self.on_edge[vid] = (e, t)
         self.edge_splits.setdefault(e, []).append((t, vid))
         return vid
@@ -360,95 +342,148 @@ class _EditBuilder:
             refined = _refine(tri, fixed_segments=np.array(fixed, dtype=np.int64).reshape(-1, 2),
                               **{k: v for k, v in options.items() if v is not None})
         # ----- back to 3D
-        n_in = len(point_ids)
-        locator = _FaceLocator(face_tris, face_tri_corners, proj)
-        polys_face_of = self.face_of_corner
-        vid_of = list(point_ids)
-        piece_edges = {}
-        for (p, q), s in zip(refined.segments.tolist(), refined.segment_source.tolist()):
-            for x in (p, q):
-                if x >= n_in:
-                    piece_edges[x] = segment_edge[s]
-        out_pts = refined.points
-        vertex_corner = {}
-        free = [i for i in range(n_in, len(out_pts)) if i not in piece_edges]
-        tri_of, bary = locator.locate_many(out_pts[free]) if free else (None, None)
-        where = {i: k for k, i in enumerate(free)}
-        tri_corner = locator.tri_corners
-        for i in range(n_in, len(out_pts)):
-            if i in piece_edges:
-                px, py = out_pts[i]
-                vid = self._point_on_edges(piece_edges[i], px, py, proj)
-            else:
-                k = where[i]
-                c0, c1, c2, f = tri_corner[tri_of[k]]
-                w0, w1, w2 = bary[k].tolist()
-                v0, v1, v2 = int(cv[c0]), int(cv[c1]), int(cv[c2])
-                pos = w0 * self.verts[v0] + w1 * self.verts[v1] + w2 * self.verts[v2]
-                cpairs = [(c0, w0), (c1, w1), (c2, w2)]
-                vid = self._add_vertex(pos, [(v0, w0), (v1, w1), (v2, w2)], cpairs, f, (-1, -1))
-                vertex_corner[vid] = cpairs
-            vid_of.append(vid)
-        region_corner_at = {}
-        face_corner = {}
-        for c in corners.tolist():
-            v = int(cv[c])
-            region_corner_at.setdefault(v, c)
-            face_corner[(int(polys_face_of[c]), v)] = c
-        # a new triangle's source face: the face holding one of its new
-        # interior vertices, else a region face at one of its corners (regions
-        # never cross a change of face data, so any of them carries the same)
-        default_face = faces[0]
-        for (a, b, c) in refined.triangles.tolist():
-            ids = [vid_of[a], vid_of[b], vid_of[c]]
-            f = -1
-            for x in ids:
-                if x in vertex_corner:
-                    f = self.vface[x - self.n]
-                    break
-            if f < 0:
-                for x in ids:
-                    if x < self.n and x in region_corner_at:
-                        f = int(polys_face_of[region_corner_at[x]])
-                        break
-                else:
-                    f = default_face
-            weights = []
-            for x in ids:
-                if x < self.n:
-                    weights.append([(face_corner.get((f, x), region_corner_at.get(x)), 1.0)])
-                elif x in vertex_corner:
-                    weights.append(vertex_corner[x])
-                elif x in self.on_edge:
-                    e, t = self.on_edge[x]
-                    lo, hi = self._ends(e)
-                    if e in corner_of_edge:       # the region face holding that edge
-                        ca, cb, ua, _ub = corner_of_edge[e]
-                        c_lo, c_hi = (ca, cb) if ua == lo else (cb, ca)
-                    else:                         # a chord: corners at its two ends
-                        c_lo, c_hi = region_corner_at[lo], region_corner_at[hi]
-                    weights.append([(c_lo, 1.0 - t), (c_hi, t)])
-                else:   # a new vertex of an earlier region inside this one: impossible
-                    raise RegionSkipped("internal: vertex without source")
-            self.new_faces.append(ids)
-            self.new_face_region.append(len(self.reports))
-            self.new_face_source.append(f)
-            self.new_corner_weights.append(weights)
+        vid_of, free, free_corners, free_weights = self._new_vertices(
+            refined, point_ids, segment_edge, proj, face_tris, face_tri_corners)
+        block = self._triangle_block(refined.triangles, vid_of, free, free_corners,
+                                     free_weights, corners, corner_of_edge, faces[0])
+        self.region_blocks.append((len(self.reports), block))
         self.replaced.update(faces)
         keys_here = set()
         for keys in segment_edge:
             keys_here.update(keys)
         self.region_keys.append(keys_here)
         self.split_counts.append({k: len(self.edge_splits.get(k, ())) for k in keys_here})
-        self.dropped.update(v for v in interior if v not in set(kept_interior))
+        self.dropped.update(interior.difference(kept_interior))
         self.dropped.update(dropping)
         after = quality(refined.points, refined.triangles)
         return RegionReport(
             region=rid, faces=len(faces), status="changed",
             triangles_before=int(len(face_tris)), triangles_after=int(len(refined.triangles)),
             min_angle_before=before, min_angle_after=after.min_angle,
-            added_points=int(len(out_pts) - n_in), complete=bool(refined.complete),
+            added_points=int(len(refined.points) - len(point_ids)),
+            complete=bool(refined.complete),
             reason=refined.stop_reason)
+
+    def _new_vertices(self, refined, point_ids, segment_edge, proj, face_tris,
+                      face_tri_corners):
+        """Vertex ids of the refined points: input points keep theirs; a point
+        added on the outline goes on its original edge; the interior points
+        (one numpy block) are barycentric combinations of the original face
+        triangle holding them.  Returns (vid_of (M,), local indices of the
+        interior points, their face triangle corners (K, 4: three corners and
+        the face), their weights (K, 3))."""
+        n_in = len(point_ids)
+        pts = refined.points
+        vid_of = np.empty(len(pts), dtype=np.int64)
+        vid_of[:n_in] = point_ids
+        seg, src = refined.segments, refined.segment_source
+        on_outline = {}
+        pick = np.flatnonzero((seg >= n_in).any(axis=1))
+        for (p, q), s in zip(seg[pick].tolist(), src[pick].tolist()):
+            for x in (p, q):
+                if x >= n_in:
+                    on_outline[x] = segment_edge[s]
+        for i in sorted(on_outline):
+            px, py = pts[i].tolist()
+            vid_of[i] = self._point_on_edges(on_outline[i], px, py, proj)
+        interior = np.ones(len(pts), dtype=bool)
+        interior[:n_in] = False
+        interior[list(on_outline)] = False
+        free = np.flatnonzero(interior)
+        if not len(free):
+            return vid_of, free, np.zeros((0, 4), dtype=np.int64), np.zeros((0, 3))
+        locator = _FaceLocator(face_tris, face_tri_corners, proj)
+        tri_of, bary = locator.locate_many(pts[free])
+        tc = locator.corner_table[tri_of]
+        vidx = self.polys.corners[tc[:, :3]]
+        v = self.verts
+        pos = (bary[:, 0:1] * v[vidx[:, 0]] + bary[:, 1:2] * v[vidx[:, 1]]
+               + bary[:, 2:3] * v[vidx[:, 2]])
+        vid_of[free] = self.vstore.add_block(pos, vidx, bary, tc[:, 3])
+        return vid_of, free, tc, bary
+
+    def _triangle_block(self, tris, vid_of, free, free_tc, free_w, corners, corner_of_edge,
+                        default_face):
+        """The region's new triangles with their source faces and corner
+        weights.  A triangle's source face is the face holding one of its
+        interior points, else a region face at one of its corners (regions
+        never cross a change of face data, so any of them carries the same);
+        an original vertex takes its corner in that face (else its first
+        corner in the region), an interior point the three corners of its
+        face triangle, a point on an original edge the corners at the ends
+        of that edge."""
+        n, cv, foc = self.n, self.polys.corners, self.face_of_corner
+        tris = np.asarray(tris, dtype=np.int64).reshape(-1, 3)
+        m = len(vid_of)
+        region_v = cv[corners]
+        uniq_v, first = np.unique(region_v, return_index=True)
+        first_corner = corners[first]
+
+        def region_corner_of(vids):
+            at = np.minimum(np.searchsorted(uniq_v, vids), len(uniq_v) - 1)
+            if len(vids) and (uniq_v[at] != vids).any():
+                raise RegionSkipped("internal: vertex without source")
+            return first_corner[at]
+
+        orig_local = np.flatnonzero(vid_of < n)
+        region_corner = np.full(m, -1, dtype=np.int64)
+        region_corner[orig_local] = region_corner_of(vid_of[orig_local])
+        face_of_orig = np.full(m, -1, dtype=np.int64)
+        face_of_orig[orig_local] = foc[region_corner[orig_local]]
+        face_of_free = np.full(m, -1, dtype=np.int64)
+        face_of_free[free] = free_tc[:, 3]
+        source = np.full(len(tris), default_face, dtype=np.int64)
+        for table in (face_of_orig, face_of_free):      # interior points win
+            cand = table[tris]
+            has = cand >= 0
+            ok = has.any(axis=1)
+            source[ok] = cand[ok, has.argmax(axis=1)[ok]]
+        local = tris.reshape(-1)
+        vid = vid_of[local]
+        face_rep = np.repeat(source, 3)
+        index = np.zeros((len(local), 3), dtype=np.int64)
+        weight = np.zeros((len(local), 3), dtype=np.float64)
+        count = np.zeros(len(local), dtype=np.int64)
+        # original vertices: their corner in the source face
+        orig = vid < n
+        keys = foc[corners].astype(np.int64) * n + region_v
+        order = np.argsort(keys, kind="stable")
+        sorted_keys = keys[order]
+        wanted = face_rep[orig] * n + vid[orig]
+        at = np.maximum(np.searchsorted(sorted_keys, wanted, side="right") - 1, 0)
+        hit = sorted_keys[at] == wanted if len(sorted_keys) else np.zeros(len(wanted), bool)
+        index[orig, 0] = np.where(hit, corners[order][at], region_corner[local[orig]])
+        weight[orig, 0] = 1.0
+        count[orig] = 1
+        # interior points: the corners of their face triangle
+        row_of_free = np.full(m, -1, dtype=np.int64)
+        row_of_free[free] = np.arange(len(free))
+        fr = row_of_free[local]
+        is_free = fr >= 0
+        index[is_free] = free_tc[fr[is_free], :3]
+        weight[is_free] = free_w[fr[is_free]]
+        count[is_free] = 3
+        # points on original edges: the corners at the edge's two ends
+        cache = {}
+        for r in np.flatnonzero(~orig & ~is_free).tolist():
+            x = int(vid[r])
+            if x not in cache:
+                on = self.on_edge.get(x)
+                if on is None:   # a new vertex of an earlier region inside this one
+                    raise RegionSkipped("internal: vertex without source")
+                e, t = on
+                lo, hi = self._ends(e)
+                if e in corner_of_edge:       # the region face holding that edge
+                    ca, cb, ua, _ub = corner_of_edge[e]
+                    c_lo, c_hi = (ca, cb) if ua == lo else (cb, ca)
+                else:                         # a chord: corners at its two ends
+                    c_lo, c_hi = region_corner_of(np.array([lo, hi])).tolist()
+                cache[x] = (c_lo, c_hi, 1.0 - t, t)
+            c_lo, c_hi, w_lo, w_hi = cache[x]
+            index[r, :2] = (c_lo, c_hi)
+            weight[r, :2] = (w_lo, w_hi)
+            count[r] = 2
+        return TriangleBlock(vid_of[tris], source, index, weight, count)
 
     def region_area(self, region):
         if self.face_areas is None:
@@ -467,14 +502,14 @@ class _EditBuilder:
 
     def _final_figures(self, out_faces, out_region, new_positions):
         """Triangle counts and smallest angles of each changed region as
-        written (after points from neighbouring regions were added)."""
-        if not out_faces:
+        written (after points from neighbouring regions were added);
+        out_faces a PolygonList, out_region the report index per face (-1
+        for grown faces)."""
+        if not len(out_faces):
             return
         allv = np.vstack((self.verts, new_positions.reshape(-1, 3)))
-        sizes = np.array([len(f) for f in out_faces])
-        corners = np.fromiter((v for f in out_faces for v in f), dtype=np.int64,
-                              count=int(sizes.sum()))
-        starts = np.concatenate(([0], np.cumsum(sizes)))
+        sizes = out_faces.sizes
+        corners, starts = out_faces.corners, out_faces.starts
         face_of = np.repeat(np.arange(len(out_faces)), sizes)
         pos = np.arange(len(corners))
         nxt = np.where(pos + 1 == starts[face_of + 1], starts[face_of], pos + 1)
@@ -600,77 +635,52 @@ class _EditBuilder:
                 f = int(edges.face_of_corner[c])
                 if f not in self.replaced:
                     grown.setdefault(f, None)
-        out_faces, out_source, out_weights = [], [], []
+        out = FaceStore()
         for f in sorted(grown):
             cs = list(range(polys.starts[f], polys.starts[f + 1]))
             ids = [int(cv[c]) for c in cs]
             weights = [[(c, 1.0)] for c in cs]
             new_ids, new_w, _ = self._insert_splits(ids, weights)
-            out_faces.append(new_ids)
-            out_source.append(f)
-            out_weights.append(new_w)
+            out.add(new_ids, f, new_w, -1)
             self.replaced.add(f)
-        out_region = [-1] * len(out_faces)
-        changed_index = {}
-        for i, report in enumerate(self.reports):
-            if report.status == "changed":
-                changed_index[i] = len(changed_index)
         # a region needs points inserted only where a later region split one
         # of its edges further
-        stale = {}
-        for i, k in changed_index.items():
-            counts = self.split_counts[k]
-            stale[i] = any(len(self.edge_splits.get(key, ())) != n for key, n in counts.items())
-        for ids, f, weights, rid in zip(self.new_faces, self.new_face_source,
-                                        self.new_corner_weights, self.new_face_region):
-            if not stale.get(rid, True):
-                out_faces.append(ids)
-                out_source.append(f)
-                out_weights.append(weights)
-                out_region.append(rid)
+        changed = [i for i, report in enumerate(self.reports) if report.status == "changed"]
+        for (rid, block), counts in zip(self.region_blocks, self.split_counts):
+            stale = any(len(self.edge_splits.get(key, ())) != k for key, k in counts.items())
+            if not stale:
+                out.add_block(block, rid)
                 continue
-            new_ids, new_w, slots = self._insert_splits(ids, weights)
-            if len(new_ids) == 3:
-                out_faces.append(new_ids)
-                out_source.append(f)
-                out_weights.append(new_w)
-                out_region.append(rid)
-                continue
-            for tri_ids, tri_w in _fan_from_clear_corner(new_ids, new_w, slots):
-                out_faces.append(tri_ids)
-                out_source.append(f)
-                out_weights.append(tri_w)
-                out_region.append(rid)
-        vrows, crows = WeightRows(), WeightRows()
-        for pairs in self.vweights:
-            vrows.add(pairs)
-        for weights in out_weights:
-            for pairs in weights:
-                crows.add(pairs)
-        vs, vi, vv = vrows.arrays()
-        cs_, ci, cw = crows.arrays()
+            for ids, f, weights in block.as_lists():
+                new_ids, new_w, slots = self._insert_splits(ids, weights)
+                if len(new_ids) == 3:
+                    out.add(new_ids, f, new_w, rid)
+                    continue
+                for tri_ids, tri_w in _fan_from_clear_corner(new_ids, new_w, slots):
+                    out.add(tri_ids, f, tri_w, rid)
+        assert [rid for rid, _ in self.region_blocks] == changed
+        faces, face_source, out_region, cs_, ci, cw = out.arrays()
+        new_positions, vs, vi, vv, vface, vedge = self.vstore.arrays()
         used = np.zeros(self.n, dtype=bool)
         keep = np.ones(len(polys), dtype=bool)
         keep[list(self.replaced)] = False
         used[cv[np.repeat(keep, polys.sizes)]] = True
-        for ids in out_faces:
-            for x in ids:
-                if x < self.n:
-                    used[x] = True
+        out_corners = faces.corners
+        used[out_corners[out_corners < self.n]] = True
         dropped = np.array(sorted(v for v in self.dropped if not used[v]), dtype=np.int64)
-        new_positions = np.array(self.new_positions, dtype=np.float64).reshape(-1, 3)
-        self._final_figures(out_faces, out_region, new_positions)
+        self._final_figures(faces, out_region, new_positions)
+        # report index -> region id; the appended -1 maps grown faces (index -1)
+        region_ids = np.array([r.region for r in self.reports] + [-1], dtype=np.int64)
         return MeshEdit(
             vertex_count=self.n,
             replaced_faces=np.array(sorted(self.replaced), dtype=np.int64),
             new_vertices=new_positions,
             vertex_weight_starts=vs, vertex_weight_indices=vi, vertex_weight_values=vv,
-            vertex_source_face=np.array(self.vface, dtype=np.int64),
-            vertex_source_edge=np.array(self.vedge, dtype=np.int64).reshape(-1, 2),
-            faces=PolygonList.from_faces(out_faces),
-            face_source=np.array(out_source, dtype=np.int64),
-            face_region=np.array([self.reports[r].region if r >= 0 else -1 for r in out_region],
-                                 dtype=np.int64),
+            vertex_source_face=vface,
+            vertex_source_edge=vedge,
+            faces=faces,
+            face_source=face_source,
+            face_region=region_ids[out_region],
             corner_weight_starts=cs_, corner_weight_indices=ci, corner_weight_values=cw,
             dropped_vertices=dropped,
             regions=sorted(self.reports, key=lambda r: r.region))
@@ -753,6 +763,7 @@ class _FaceLocator:
 
     def __init__(self, face_tris, tri_corners, proj):
         self.tri_corners = tri_corners
+        self.corner_table = np.array(tri_corners, dtype=np.int64).reshape(-1, 4)
         verts = sorted({v for t in face_tris for v in t})
         local = {v: i for i, v in enumerate(verts)}
         self.pts = np.array([proj[v] for v in verts], dtype=np.float64).reshape(-1, 2)
@@ -789,22 +800,21 @@ class _FaceLocator:
         order = np.argsort(hilbert_keys(pts), kind="stable")
         mesh = self.mesh
         tv, x, y = mesh.tv, mesh.x, mesh.y
-        good = self.good.tolist()
         slot = np.empty(q, dtype=np.int64)
         xs, ys = pts[:, 0].tolist(), pts[:, 1].tolist()
-        fallback = []
+        locate = mesh.locate
         for i in order.tolist():
-            px, py = xs[i], ys[i]
-            s = mesh.locate(px, py)
-            b = 3 * s
-            a0, a1, a2 = tv[b], tv[b + 1], tv[b + 2]
-            if (orient2d(x[a1], y[a1], x[a2], y[a2], px, py) < 0
-                    or orient2d(x[a2], y[a2], x[a0], y[a0], px, py) < 0
-                    or orient2d(x[a0], y[a0], x[a1], y[a1], px, py) < 0):
-                fallback.append(i)
-                slot[i] = -1
-            else:
-                slot[i] = good[s]
+            slot[i] = locate(xs[i], ys[i])
+        # the walk stops at the mesh's open border for a point outside it:
+        # keep only the slots that hold their point (exact signs)
+        corner = np.asarray(tv, dtype=np.int64).reshape(-1, 3)[slot]
+        vxy = np.column_stack((np.asarray(x), np.asarray(y)))
+        inside = np.ones(q, dtype=bool)
+        for k in range(3):
+            inside &= orient2d_many(vxy[corner[:, (k + 1) % 3]], vxy[corner[:, (k + 2) % 3]],
+                                    pts) >= 0
+        fallback = np.flatnonzero(~inside).tolist()
+        slot = np.where(inside, self.good[slot], -1)
         ok = slot >= 0
         tri_of = slot.copy()
         bary = np.zeros((q, 3))
