@@ -23,6 +23,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from .polygons import corner_ranges
+
 # float32 spacing relative to magnitude (2**-23), times a small safety factor
 FLOAT32_NOISE = 4.0 * 2.0 ** -23
 RELATIVE_FLATNESS = 1e-4
@@ -117,8 +119,19 @@ def find_regions(vertices, polys, *, face_mask, flat_angle, flat_distance, break
     cos_limit = math.cos(math.radians(flat_angle))
     noise_floor = FLOAT32_NOISE * float(np.abs(vertices).max(initial=0.0))
     starts, corners = polys.starts, polys.corners
-    face_points = [vertices[corners[starts[f]:starts[f + 1]]] for f in range(len(polys))]
-    longest = np.array([_longest_edge(p) for p in face_points])
+    sizes = np.diff(starts)
+    pos = vertices[corners]
+    step = vertices[corners[polys.next_corner()]] - pos
+    if len(corners):
+        longest = np.maximum.reduceat(np.sqrt((step * step).sum(axis=1)), starts[:-1])
+        face_lo = np.minimum.reduceat(pos, starts[:-1], axis=0)
+        face_hi = np.maximum.reduceat(pos, starts[:-1], axis=0)
+    else:
+        longest = face_lo = face_hi = np.zeros((0, 3))
+    # plain Python numbers for the growing loop (faces are small)
+    corner_xyz = pos.tolist()
+    start_list = starts.tolist()
+    lo_list, hi_list, unit_list = face_lo.tolist(), face_hi.tolist(), unit.tolist()
     # faces whose normal is rounding noise (zero-area faces, float32 slivers)
     # join on the distance test alone
     height = 2.0 * area / np.maximum(longest, 1e-300)
@@ -129,10 +142,10 @@ def find_regions(vertices, polys, *, face_mask, flat_angle, flat_distance, break
         if not face_mask[seed] or region_of_face[seed] >= 0:
             continue
         rid = len(regions)
-        normal = unit[seed] if length[seed] > 0 else np.array([0.0, 0.0, 1.0])
-        origin = face_points[seed].mean(axis=0)
-        lo = face_points[seed].min(axis=0)
-        hi = face_points[seed].max(axis=0)
+        nx, ny, nz = unit_list[seed] if length[seed] > 0 else (0.0, 0.0, 1.0)
+        normal = np.array([nx, ny, nz])
+        ox, oy, oz = pos[start_list[seed]:start_list[seed + 1]].mean(axis=0).tolist()
+        lo, hi = lo_list[seed], hi_list[seed]
         members = [seed]
         region_of_face[seed] = rid
         queue = [seed]
@@ -141,21 +154,25 @@ def find_regions(vertices, polys, *, face_mask, flat_angle, flat_distance, break
             for g, _e in neighbours[f]:
                 if region_of_face[g] >= 0:
                     continue
-                pts = face_points[g]
-                glo = np.minimum(lo, pts.min(axis=0))
-                ghi = np.maximum(hi, pts.max(axis=0))
+                glo = [min(a, b) for a, b in zip(lo, lo_list[g])]
+                ghi = [max(a, b) for a, b in zip(hi, hi_list[g])]
                 tol = flat_distance if flat_distance is not None else \
-                    RELATIVE_FLATNESS * float(np.linalg.norm(ghi - glo)) + noise_floor
-                dist = np.abs((pts - origin) @ normal).max()
+                    RELATIVE_FLATNESS * math.dist(ghi, glo) + noise_floor
+                dist = max(abs((x - ox) * nx + (y - oy) * ny + (z - oz) * nz)
+                           for x, y, z in corner_xyz[start_list[g]:start_list[g + 1]])
                 if dist > tol:
                     continue
                 if not noisy[g]:
-                    if unit[g] @ normal <= 0:
+                    ux, uy, uz = unit_list[g]
+                    facing = ux * nx + uy * ny + uz * nz
+                    if facing <= 0:
                         continue            # coplanar but facing the other way
-                    if unit[g] @ normal < cos_limit:
+                    if facing < cos_limit:
                         continue
-                    if not noisy[f] and unit[g] @ unit[f] < cos_limit:
-                        continue
+                    if not noisy[f]:
+                        fx, fy, fz = unit_list[f]
+                        if ux * fx + uy * fy + uz * fz < cos_limit:
+                            continue
                 region_of_face[g] = rid
                 members.append(g)
                 queue.append(g)
@@ -164,18 +181,16 @@ def find_regions(vertices, polys, *, face_mask, flat_angle, flat_distance, break
         norm = np.linalg.norm(total)
         fitted = total / norm if norm > 0 else normal
         weights = area[members]
-        centroids = np.array([face_points[f].mean(axis=0) for f in members])
+        member_ids = np.asarray(members, dtype=np.int64)
+        member_corners = pos[corner_ranges(starts[member_ids], sizes[member_ids])]
+        centroids = np.add.reduceat(member_corners, np.cumsum(sizes[member_ids])
+                                    - sizes[member_ids], axis=0) / sizes[member_ids][:, None]
         origin_fit = (centroids * weights[:, None]).sum(axis=0) / weights.sum() \
             if weights.sum() > 0 else centroids.mean(axis=0)
-        vids = np.unique(np.concatenate([corners[starts[f]:starts[f + 1]] for f in members]))
+        vids = np.unique(corners[corner_ranges(starts[member_ids], sizes[member_ids])])
         deviation = float(np.abs((vertices[vids] - origin_fit) @ fitted).max())
         tol = flat_distance if flat_distance is not None else \
-            RELATIVE_FLATNESS * float(np.linalg.norm(hi - lo)) + noise_floor
+            RELATIVE_FLATNESS * math.dist(hi, lo) + noise_floor
         regions.append(Region(faces=sorted(members), normal=fitted, origin=origin_fit,
                               tolerance=tol, deviation=deviation))
     return regions, region_of_face
-
-
-def _longest_edge(pts):
-    d = np.roll(pts, -1, axis=0) - pts
-    return float(np.sqrt((d * d).sum(axis=1)).max())

@@ -86,3 +86,11 @@ def check_mesh(vertices, faces):
     if len(polys.corners) and (polys.corners.min() < 0 or polys.corners.max() >= len(verts)):
         raise ValueError(f"faces use a vertex index out of range 0..{len(verts) - 1}")
     return np.ascontiguousarray(verts), polys
+
+
+def corner_ranges(starts, sizes):
+    """Concatenated aranges [s, s + k) for each (s, k): the corner indices of
+    faces given their starts and sizes."""
+    sizes = np.asarray(sizes, dtype=np.int64)
+    offsets = np.repeat(np.asarray(starts, dtype=np.int64) - np.cumsum(sizes) + sizes, sizes)
+    return offsets + np.arange(int(sizes.sum()), dtype=np.int64)

@@ -33,7 +33,7 @@ from .flat_regions import EdgeTable, find_regions, newell_normals
 from .legalize import mesh_from_triangles
 from .edit_store import FaceStore, TriangleBlock, VertexStore
 from .mesh_edit import MeshEdit, RegionReport
-from .polygons import PolygonList, check_mesh
+from .polygons import PolygonList, check_mesh, corner_ranges
 from .predicates import orient2d, orient2d_many
 from .quality import quality
 from .ordering import hilbert_keys
@@ -257,35 +257,40 @@ class _EditBuilder:
         if region.deviation > region.tolerance * 1.000001:
             raise RegionSkipped(f"not flat within tolerance (deviation {region.deviation:.3g} "
                                 f"> {region.tolerance:.3g})")
-        corners = np.concatenate([np.arange(polys.starts[f], polys.starts[f + 1]) for f in faces])
+        face_ids = np.asarray(faces, dtype=np.int64)
+        corners = corner_ranges(polys.starts[face_ids], np.diff(polys.starts)[face_ids])
         cv = polys.corners
         edge_ids = edges.edge_of_corner[corners]
-        uniq, counts = np.unique(edge_ids, return_counts=True)
-        count_of = dict(zip(uniq.tolist(), counts.tolist()))
-        if max(counts) > 2:
+        uniq, first, counts = np.unique(edge_ids, return_index=True, return_counts=True)
+        if counts.max() > 2:
             raise RegionSkipped("non-manifold edge inside the region")
-        border = []          # directed (u, v, edge id, corner at u)
-        inner = []           # break edges inside: (u, v, edge id, corner at u)
-        region_vertices = set(cv[corners].tolist())
+        count_here = counts[np.searchsorted(uniq, edge_ids)]
+        on_border = count_here == 1
+        on_break = ~on_border & np.isin(edge_ids, np.fromiter(self.break_ids, dtype=np.int64,
+                                                              count=len(self.break_ids)))
+        # the region face holding each outline or break edge: its first corner there
         corner_of_edge = {}
-        for c, e in zip(corners.tolist(), edge_ids.tolist()):
-            u, v = int(cv[c]), int(cv[nxt[c]])
-            corner_of_edge.setdefault(e, (c, int(nxt[c]), u, v))
-            if count_of[e] == 1:
-                border.append((u, v, e, c))
-            elif e in self.break_ids and u < v:
-                inner.append((u, v, e, c))
+        for c in corners[first[counts == 1].tolist() + first[
+                np.isin(uniq, edge_ids[on_break])].tolist()].tolist():
+            corner_of_edge[int(edges.edge_of_corner[c])] = (c, int(nxt[c]), int(cv[c]),
+                                                            int(cv[nxt[c]]))
+        def directed(mask):       # (u, v, edge id, corner at u)
+            cs = corners[mask]
+            return list(zip(cv[cs].tolist(), cv[nxt[cs]].tolist(), edge_ids[mask].tolist(),
+                            cs.tolist()))
+        border = directed(on_border)
+        inner = [t for t in directed(on_break) if t[0] < t[1]]     # break edges inside
         if not border:
             raise RegionSkipped("the region has no border (a closed flat surface)")
+        region_v, uses = np.unique(cv[corners], return_counts=True)
+        region_vertices = set(region_v.tolist())
         border_vertices = {u for u, _, _, _ in border} | {v for _, v, _, _ in border}
         dropping = self.dropped_border & border_vertices
         inner_vertices = {u for u, _, _, _ in inner} | {v for _, v, _, _ in inner}
         interior = region_vertices - border_vertices
-        uses = {}
-        for c in corners.tolist():
-            uses[int(cv[c])] = uses.get(int(cv[c]), 0) + 1
-        kept_interior = sorted(v for v in interior if self.keep_interior or v in inner_vertices
-                               or uses[v] < self.faces_using_vertex[v])
+        shared = region_v[uses < self.faces_using_vertex[region_v]]
+        keep = inner_vertices.union(shared.tolist())
+        kept_interior = sorted(interior if self.keep_interior else interior & keep)
         # the outline: border edges split where earlier regions added points,
         # minus straight-run vertices being dropped
         point_ids = sorted(border_vertices - dropping) + kept_interior
@@ -313,10 +318,8 @@ class _EditBuilder:
         e1, e2 = _frame(region.normal)
         pos3 = np.array([self.position(v) for v in point_ids])
         pts2 = np.column_stack(((pos3 - origin) @ e1, (pos3 - origin) @ e2))
-        face_tris, face_tri_corners = self._face_triangles(faces)
-        all_v = np.array(sorted(region_vertices))
-        proj = {int(v): ((self.verts[v] - origin) @ e1, (self.verts[v] - origin) @ e2)
-                for v in all_v}
+        face_tris, face_tri_corners = self._face_triangles(face_ids)
+        proj = _Projection(region_v, self.verts, origin, e1, e2)
         tri = triangulate(pts2, np.array(segments, dtype=np.int64), fill="nonzero")
         if tri.stats.get("added_points", 0):
             raise RegionSkipped("self-intersecting outline")
@@ -600,27 +603,26 @@ class _EditBuilder:
         return self._add_edge_point(e, t)
 
     def _face_triangles(self, faces):
-        """Triangles (vertex ids) covering the original faces, and their corners."""
-        polys, cv = self.polys, self.polys.corners
-        tris, tri_corners = [], []
-        for f in faces:
-            cs = list(range(polys.starts[f], polys.starts[f + 1]))
-            for k in range(1, len(cs) - 1):           # fan; see _FaceLocator for n-gons
-                tri_corners.append((cs[0], cs[k], cs[k + 1], f))
-                tris.append((int(cv[cs[0]]), int(cv[cs[k]]), int(cv[cs[k + 1]])))
-        return tris, tri_corners
+        """Triangles covering the original faces (a fan from each face's first
+        corner; see _FaceLocator for n-gons): vertex ids (T, 3) and corners
+        plus face (T, 4)."""
+        polys = self.polys
+        start = polys.starts[faces]
+        fan = np.maximum(np.diff(polys.starts)[faces] - 2, 0)
+        first = np.repeat(start, fan)
+        k = np.arange(int(fan.sum())) - np.repeat(np.cumsum(fan) - fan, fan) + 1
+        tri_corners = np.column_stack((first, first + k, first + k + 1, np.repeat(faces, fan)))
+        return polys.corners[tri_corners[:, :3]], tri_corners
 
     @staticmethod
     def _projected_area(face_tris, proj):
-        total = 0.0
-        for a, b, c in face_tris:
-            (ax, ay), (bx, by), (cx, cy) = proj[a], proj[b], proj[c]
-            total += 0.5 * ((bx - ax) * (cy - ay) - (by - ay) * (cx - ax))
-        return total
+        p = proj.many(face_tris)
+        return 0.5 * float(((p[:, 1, 0] - p[:, 0, 0]) * (p[:, 2, 1] - p[:, 0, 1])
+                            - (p[:, 1, 1] - p[:, 0, 1]) * (p[:, 2, 0] - p[:, 0, 0])).sum())
 
     @staticmethod
     def _quality_before(face_tris, proj):
-        pts = np.array([proj[v] for tri in face_tris for v in tri]).reshape(-1, 2)
+        pts = proj.many(face_tris).reshape(-1, 2)
         return quality(pts, np.arange(len(pts)).reshape(-1, 3)).min_angle
 
     # -------------------------------------------------------------- finish
@@ -758,16 +760,32 @@ def _fan_from_clear_corner(ids, weights, corner_slots):
             for p, q in zip(run, run[1:])]
 
 
+class _Projection:
+    """Plane coordinates of a region's vertices (sorted ids `vids`)."""
+
+    def __init__(self, vids, verts, origin, e1, e2):
+        self.vids = vids
+        rel = verts[vids] - origin
+        self.xy = np.column_stack((rel @ e1, rel @ e2))
+
+    def many(self, vids):
+        """Coordinates of an integer array of vertex ids: shape + (2,)."""
+        vids = np.asarray(vids, dtype=np.int64)
+        return self.xy[np.searchsorted(self.vids, vids)]
+
+    def __getitem__(self, v):
+        x, y = self.xy[int(np.searchsorted(self.vids, v))].tolist()
+        return x, y
+
+
 class _FaceLocator:
     """Finds the original face triangle containing a point of the plane."""
 
     def __init__(self, face_tris, tri_corners, proj):
-        self.tri_corners = tri_corners
-        self.corner_table = np.array(tri_corners, dtype=np.int64).reshape(-1, 4)
-        verts = sorted({v for t in face_tris for v in t})
-        local = {v: i for i, v in enumerate(verts)}
-        self.pts = np.array([proj[v] for v in verts], dtype=np.float64).reshape(-1, 2)
-        tris = np.array([[local[v] for v in t] for t in face_tris], dtype=np.int64)
+        self.corner_table = tri_corners
+        verts, local = np.unique(face_tris, return_inverse=True)
+        self.pts = proj.many(verts)
+        tris = local.reshape(-1, 3).astype(np.int64)
         self.tris = tris
         p = self.pts[tris]
         area2 = ((p[:, 1, 0] - p[:, 0, 0]) * (p[:, 2, 1] - p[:, 0, 1])
