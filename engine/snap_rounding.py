@@ -12,15 +12,16 @@ and so on.  Snap rounding settles this once for the whole segment set:
 * every segment is replaced by the polyline through the centres (the doubles
   themselves) of all hot pixels it meets, in order along it.
 
-The polylines ("fragments") cross no more except at shared vertices, so the
-constrained triangulation can recover them as they are (J. D. Hobby,
-"Practical segment intersection with finite precision output", Computational
-Geometry 13(4), 1999; L. J. Guibas and D. H. Marimont, "Rounding arrangements
-dynamically", IJCGA 8(2), 1998).  Their proofs move every point of a pixel
-monotonically towards its centre column by column and row by row; that only
-needs pixels that tile the plane in rows and columns, which the float grid
-does (with widths that change between binades).  Every fragment vertex lies
-within one ulp of its segment.
+On a uniform grid the polylines ("fragments") cross no more except at shared
+vertices (J. D. Hobby, "Practical segment intersection with finite precision
+output", Computational Geometry 13(4), 1999; L. J. Guibas and D. H. Marimont,
+"Rounding arrangements dynamically", IJCGA 8(2), 1998).  The pixels of
+doubles grow with magnitude, so a fragment between a large pixel and a small
+one can still swing past a small pixel its segment missed; a last pass
+routes such a fragment through the nearer end of the fragment it crosses,
+until no two cross (checked exactly).  Every fragment vertex found by the
+pixels lies within one ulp of its segment; those of the last pass are ends
+of fragments that cross it, so they are as close in practice.
 
 Decisions are exact: crossings with exact orientation signs and Fractions,
 "segment meets pixel" with exact rational pixel bounds; numpy prefilters
@@ -68,6 +69,20 @@ def _crossings(x, y, seg):
     """Exact crossing points (Fraction pairs) of segment pairs whose
     interiors cross at one point (collinear overlaps and touching ends give
     no new point: their ends are input points)."""
+    out = []
+    for p, q in _crossing_pairs(x, y, seg):
+        a, b = seg[p]
+        c, d = seg[q]
+        axf, ayf, bxf, byf = (Fraction(v) for v in (x[a], y[a], x[b], y[b]))
+        cxf, cyf, dxf, dyf = (Fraction(v) for v in (x[c], y[c], x[d], y[d]))
+        denom = (bxf - axf) * (dyf - cyf) - (byf - ayf) * (dxf - cxf)
+        s = ((cxf - axf) * (dyf - cyf) - (cyf - ayf) * (dxf - cxf)) / denom
+        out.append((axf + s * (bxf - axf), ayf + s * (byf - ayf)))
+    return out
+
+
+def _crossing_pairs(x, y, seg):
+    """Row pairs (p, q) of `seg` whose interiors cross at one point (exact signs)."""
     ax, ay = x[seg[:, 0]], y[seg[:, 0]]
     bx, by = x[seg[:, 1]], y[seg[:, 1]]
     i, j = _pairs_by_x(np.minimum(ax, bx), np.maximum(ax, bx))
@@ -89,16 +104,7 @@ def _crossings(x, y, seg):
     o3 = np.sign(orient2d_many(pa[j], pb[j], pa[i]))
     o4 = np.sign(orient2d_many(pa[j], pb[j], pb[i]))
     keep = o3 * o4 < 0
-    out = []
-    for p, q in zip(i[keep].tolist(), j[keep].tolist()):
-        a, b = seg[p]
-        c, d = seg[q]
-        axf, ayf, bxf, byf = (Fraction(v) for v in (x[a], y[a], x[b], y[b]))
-        cxf, cyf, dxf, dyf = (Fraction(v) for v in (x[c], y[c], x[d], y[d]))
-        denom = (bxf - axf) * (dyf - cyf) - (byf - ayf) * (dxf - cxf)
-        s = ((cxf - axf) * (dyf - cyf) - (cyf - ayf) * (dxf - cxf)) / denom
-        out.append((axf + s * (bxf - axf), ayf + s * (byf - ayf)))
-    return out
+    return list(zip(i[keep].tolist(), j[keep].tolist()))
 
 
 def _pixel(v):
@@ -203,9 +209,60 @@ def snap_round(xs, ys, points, rows):
             inner[r].append(p)
     routes = []
     for (a, b, *_), mids in zip(rows, inner):
-        if mids:
-            fax, fay = Fraction(xs[a]), Fraction(ys[a])
-            dx, dy = Fraction(xs[b]) - fax, Fraction(ys[b]) - fay
-            mids.sort(key=lambda p: (Fraction(xs[p]) - fax) * dx + (Fraction(ys[p]) - fay) * dy)
+        mids.sort(key=_along(xs, ys, a, b))
         routes.append([a] + mids + [b])
+    _untangle(xs, ys, rows, routes)
     return added, routes
+
+
+def _along(xs, ys, a, b):
+    """Sort key: exact position of a point's projection along a -> b."""
+    fax, fay = Fraction(xs[a]), Fraction(ys[a])
+    dx, dy = Fraction(xs[b]) - fax, Fraction(ys[b]) - fay
+    return lambda p: (Fraction(xs[p]) - fax) * dx + (Fraction(ys[p]) - fay) * dy
+
+
+def _untangle(xs, ys, rows, routes):
+    """Route a fragment through the nearer end of a fragment it still crosses
+    until no two fragments cross (exact test).  Needed because the pixels of
+    doubles grow with magnitude: a fragment between a large pixel and a small
+    one can swing past a small pixel that its segment missed.  Every round
+    adds a vertex to a route and none is removed, so this ends."""
+    for _ in range(64 * (len(rows) + 1)):
+        owners = {}
+        for r, route in enumerate(routes):
+            for u, v in zip(route, route[1:]):
+                owners.setdefault((u, v) if u < v else (v, u), []).append(r)
+        keys = list(owners)
+        x = np.asarray(xs, dtype=np.float64)
+        y = np.asarray(ys, dtype=np.float64)
+        frag = np.array(keys, dtype=np.int64).reshape(-1, 2)
+        pairs = _crossing_pairs(x, y, frag)
+        if not pairs:
+            return
+        done = set()
+        changed = False
+        for f, g in pairs + [(g, f) for f, g in pairs]:
+            if f in done:
+                continue
+            u, v = keys[f]
+            for w in sorted(keys[g], key=lambda w: _distance_to_line(xs, ys, u, v, w)):
+                for r in owners[keys[f]]:
+                    a, b = rows[r][0], rows[r][1]
+                    key = _along(xs, ys, a, b)
+                    route = routes[r]
+                    if w in route or not key(a) < key(w) < key(b):
+                        continue
+                    mids = sorted(route[1:-1] + [w], key=key)
+                    routes[r] = [a] + mids + [b]
+                    changed = True
+                if changed:
+                    done.add(f)
+                    break
+        if not changed:
+            return           # left to the inserter's crossing fallback
+
+
+def _distance_to_line(xs, ys, u, v, w):
+    dx, dy = xs[v] - xs[u], ys[v] - ys[u]
+    return abs(dx * (ys[w] - ys[u]) - dy * (xs[w] - xs[u])) / (abs(dx) + abs(dy) or 1.0)

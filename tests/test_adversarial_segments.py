@@ -156,3 +156,31 @@ def test_no_crossing_means_no_snapping():
     assert tri.segments.tolist() == [[0, 1]]
     assert tri.stats["added_points"] == 0
     assert engine.triangulate(pts, segs).stats["added_points"] == 0
+
+
+# --------------------------------------------------------------------------
+# found by the long segment-set fuzzing: the pixels of doubles grow with
+# magnitude, so a fragment between a large pixel and small ones could still
+# cross another fragment (engine/snap_rounding.py docstring)
+# --------------------------------------------------------------------------
+_LINE = [[-38.0, -12.666666666666666], [-19.0, -6.333333333333333], [12.0, 4.0],
+         [-3.0, -1.0], [13.0, 4.333333333333333], [-38.0, -12.666666666666666],
+         [8.0, 2.6666666666666665], [-34.0, -11.333333333333334], [0.0, 0.0],
+         [1.0, 0.3333333333333333], [2.0, 0.6666666666666666],
+         [-38.0, -12.666666666666664], [-38.0, -12.666666666666666],
+         [-1.0, -0.3333333333333333], [-38.0, -12.666666666666666],
+         [-38.0, -12.666666666666666], [-38.00000000000001, -12.666666666666666]]
+
+
+@pytest.mark.parametrize("last", [[-1.0, -0.3333333333333333], [19.0, 6.333333333333333]],
+                         ids=["uncovered", "refused"])
+def test_fragments_between_pixels_of_different_sizes(last):
+    # points (x, x/3) for integers x from -38 to 19 (IEEE 754 rounding; pixel
+    # sizes from 2^-54 to 2^-49 along the line) with one-ulp neighbours of
+    # (-38, -38/3) and three overlapping segments along the line that cross
+    # once.  Was an uncovered segment (independent checker) and a refusal
+    # (ValueError).  Exact checks, Euler's formula, hull area (GEOS);
+    # strict=False: features an ulp apart (helpers.check_segments docstring)
+    pts = np.array(_LINE[:13] + [last] + _LINE[14:])
+    segs = np.array([(0, 6), (0, 13), (2, 7)])
+    expect_triangulate_contract(pts, segs, fill="hull", strict=False)
