@@ -2,7 +2,8 @@
 :func:`triangulate`, its input checks and the conversion to arrays.
 
 Pipeline: check and merge the input -> Delaunay of the distinct points
-(:mod:`engine.delaunay`) -> insert the segments (:mod:`engine.constraints`)
+(:mod:`engine.delaunay`) -> insert the segments (:mod:`engine.constraints`;
+when segments cross, the snap-rounded ones of :mod:`engine.snap_rounding`)
 -> choose the kept triangles (:mod:`engine.regions`) -> arrays
 (:class:`engine.triangulation.Triangulation`).  The CDT itself is the one of
 L. P. Chew, "Constrained Delaunay triangulations", Algorithmica 4, 1989.
@@ -10,10 +11,11 @@ L. P. Chew, "Constrained Delaunay triangulations", Algorithmica 4, 1989.
 
 import numpy as np
 
-from .constraints import ConstraintError, SegmentInserter
+from .constraints import ConstraintError, CrossingFound, SegmentInserter
 from .delaunay import build_delaunay
 from .mesh import int_array
 from .regions import FILL_RULES, kept_triangles
+from .snap_rounding import snap_round
 from .triangulation import Triangulation
 
 
@@ -139,8 +141,12 @@ def triangulate(points, segments=None, *, holes=None, fill=None):
 
     points    (N, 2) floats.
     segments  (M, 2) point indices; crossing segments are split at their
-              crossing (a new point), a point on a segment splits it,
-              overlapping collinear segments merge; zero-length ones are ignored.
+              crossing (a new point, rounded to doubles), a point on a segment
+              splits it, overlapping collinear segments merge; zero-length ones
+              are ignored.  When segments cross, they are snap-rounded: each
+              also passes through every point (input or crossing) that lies
+              within rounding (about an ulp) of it, so pieces stay within an
+              ulp of their segment and never cross.
     holes     (H, 2) seed points: the region around each, bounded by
               segments, is removed.
     fill      "hull" keeps the convex hull; "even-odd" / "nonzero" keep the
@@ -166,20 +172,59 @@ def triangulate(points, segments=None, *, holes=None, fill=None):
                          f"got {len(distinct)} distinct points")
     xs = pts[:, 0].tolist()
     ys = pts[:, 1].tolist()
-    mesh = build_delaunay(xs, ys, distinct.tolist())
-    inserter = SegmentInserter(mesh)
     rows = group_segments(merged[segs] if len(segs) else segs)
-    for a, b, source, net, count in mark_existing_edges(mesh, inserter, rows):
+    distinct = distinct.tolist()
+    mesh = build_delaunay(xs, ys, distinct)
+    # segments that do not cross are recovered exactly as they are; at the
+    # first crossing, start again with the snap-rounded segment set
+    inserter = SegmentInserter(mesh, stop_at_crossing=True)
+    try:
+        _insert_rows(inserter, mark_existing_edges(mesh, inserter, rows))
+        added = 0
+    except CrossingFound:
+        mesh, inserter, added = _snap_rounded(xs, ys, distinct, rows)
+    kept = kept_triangles(mesh, fill, hole_pts.tolist())
+    result = mesh_to_triangulation(mesh, kept, merged)
+    result.stats["added_points"] = added + len(inserter.added)
+    return result
+
+
+def _insert_rows(inserter, rows):
+    for a, b, source, net, count in rows:
         try:
             inserter.insert(a, b, source, net, count)
         except ConstraintError as exc:
-            # a safety net: no input known today reaches it
+            # a safety net: snap-rounded fragments cross only at shared vertices
             raise ValueError(f"segment {source} ({a}-{b}) could not be inserted among "
                              f"nearly coincident crossings: {exc}") from None
-    kept = kept_triangles(mesh, fill, hole_pts.tolist())
-    result = mesh_to_triangulation(mesh, kept, merged)
-    result.stats["added_points"] = len(inserter.added)
-    return result
+
+
+def _snap_rounded(xs, ys, distinct, rows):
+    """Mesh with the snap-rounded segments (engine.snap_rounding): the
+    rounded crossings join the points, each segment becomes its fragments
+    through the hot pixels it meets; returns (mesh, inserter, added count)."""
+    xs, ys = list(xs), list(ys)
+    added, routes = snap_round(xs, ys, distinct, rows)
+    mesh = build_delaunay(xs, ys, distinct + added)
+    inserter = SegmentInserter(mesh)
+    inserter.split_on_carrier = False
+    # fragments shared by several segments merge into one record, as
+    # overlapping segments do: (lo, hi) -> [first source, net lo->hi, count]
+    pieces = {}
+    for (a, b, source, net, count), route in zip(rows, routes):
+        inserter.carrier[source] = (a, b)
+        for u, v in zip(route, route[1:]):
+            key, signed = ((u, v), net) if u < v else ((v, u), -net)
+            rec = pieces.get(key)
+            if rec is None:
+                pieces[key] = [source, signed, count]
+            else:
+                rec[0] = min(rec[0], source)
+                rec[1] += signed
+                rec[2] += count
+    frag = [(lo, hi, src, net, count) for (lo, hi), (src, net, count) in pieces.items()]
+    _insert_rows(inserter, mark_existing_edges(mesh, inserter, frag))
+    return mesh, inserter, len(added)
 
 
 def mesh_to_triangulation(mesh, kept, merged_into):

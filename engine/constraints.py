@@ -10,14 +10,19 @@ Special cases, all decided with exact predicates:
 
 * a vertex lying on the segment splits it there (the pieces are inserted in turn);
 * a segment overlapping an existing constraint just adds to that edge's record;
-* a segment crossing an existing constraint: the crossing point of the two
+* a segment crossing an existing constraint: :func:`engine.cdt.triangulate`
+  stops at the first one (``stop_at_crossing``) and inserts the snap-rounded
+  segment set instead (:mod:`engine.snap_rounding`), whose fragments meet
+  only at shared vertices.  Should a fragment still cross a constraint, the
+  fallback below applies: the crossing point of the two
   input segments is computed exactly (fractions), rounded to the nearest
   double and becomes a new vertex; the old constraint is released, the vertex
   inserted, and both constraints are inserted again as pieces through it, so
   no constraint is ever lost even when rounding puts the vertex a hair off
   either line.  Segments meeting at one exact point share one vertex;
 * pieces remember their input segment ("carrier"): an input vertex exactly on
-  the carrier splits the piece even when the piece ends at a rounded crossing.
+  the carrier splits the piece even when the piece ends at a rounded crossing
+  (not for snap-rounded fragments: such vertices are already on their route).
 """
 
 from collections import deque
@@ -34,6 +39,11 @@ MAX_NESTING = 48
 
 class ConstraintError(RuntimeError):
     """Raised when a segment cannot be recovered (indicates a corrupt mesh)."""
+
+
+class CrossingFound(Exception):
+    """Raised by an inserter with stop_at_crossing=True on the first crossing:
+    the caller then snap-rounds the whole segment set (engine.snap_rounding)."""
 
 
 def _exact_crossing(mesh, first, second, strict=False):
@@ -59,8 +69,12 @@ def _exact_crossing(mesh, first, second, strict=False):
 class SegmentInserter:
     """Inserts segments into `mesh` one by one; records added vertices."""
 
-    def __init__(self, mesh):
+    def __init__(self, mesh, stop_at_crossing=False):
         self.mesh = mesh
+        self.stop_at_crossing = stop_at_crossing
+        # snap-rounded fragments run a hair off their input segment: points
+        # exactly on the input segment are already on their routes
+        self.split_on_carrier = True
         self.added = []          # vertex indices created at crossings
         self.released = []       # edges whose constraint was released and re-inserted
         self.depth = 0
@@ -149,6 +163,8 @@ class SegmentInserter:
                 work.append((w, v))
                 work.append((u, w))
             elif kind == "cross-constraint":  # u-v crosses constraint (c, d)
+                if self.stop_at_crossing:
+                    raise CrossingFound()
                 c, d = outcome[1], outcome[2]
                 key = (u, v, min(c, d), max(c, d))
                 if key in seen:
@@ -186,7 +202,7 @@ class SegmentInserter:
         mesh = self.mesh
         tv, tn, tc = mesh.tv, mesh.tn, mesh.tc
         orient = self._orient
-        if carrier is not None and (carrier == (a, b) or carrier == (b, a)):
+        if not self.split_on_carrier or carrier == (a, b) or carrier == (b, a):
             carrier = None
 
         def on_carrier(w):

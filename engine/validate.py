@@ -12,7 +12,8 @@ problems (empty when valid):
 * every input segment (after duplicate merging) that touches the kept region
   is covered by a chain of output segments whose vertices lie on it exactly
   or within 1e-9 of its length from it (crossings are rounded to doubles and
-  may land on, or be routed through, a vertex that close);
+  may land on, or be routed through, a vertex that close), and, when the
+  chain runs end to end, through every used input point exactly on it;
 * with points_used=True, every distinct input point is a triangle vertex.
 """
 
@@ -92,6 +93,7 @@ def _check_coverage(tri, segments):
         adjacency.setdefault(q, []).append(p)
     used = np.zeros(len(pts), dtype=bool)
     used[np.asarray(tri.triangles).ravel()] = True
+    inputs = np.flatnonzero((tri.merged_into == np.arange(n_input)) & used[:n_input])
     for i, (a, b) in enumerate(tri.merged_into[segments].tolist()):
         if a == b:
             continue
@@ -124,6 +126,12 @@ def _check_coverage(tri, segments):
                     seen.add(q)
                     stack.append(q)
         if b in seen:
+            # a point lying exactly on a segment splits it: the chain passes
+            # through every used input point on it
+            missing = [w for w in _input_points_on(pts, a, b, inputs) if w not in seen]
+            if missing:
+                problems.append(f"input point {missing[0]} lies on input segment {i} "
+                                f"({a}-{b}) but does not split it")
             continue
         # otherwise every gap of the chain must lie outside the kept region
         # (part of a segment can run outside it, e.g. along a hole that
@@ -138,6 +146,19 @@ def _check_coverage(tri, segments):
                                 f"segments between points {p} and {q}")
                 break
     return problems
+
+
+def _input_points_on(pts, a, b, candidates):
+    """The points of `candidates` lying exactly on segment a-b, ends excluded."""
+    lo = np.minimum(pts[a], pts[b])
+    hi = np.maximum(pts[a], pts[b])
+    c = candidates[np.all((pts[candidates] >= lo) & (pts[candidates] <= hi), axis=1)]
+    c = c[np.any(pts[c] != pts[a], axis=1) & np.any(pts[c] != pts[b], axis=1)]
+    if len(c) == 0:
+        return []
+    o = orient2d_many(np.broadcast_to(pts[a], (len(c), 2)), np.broadcast_to(pts[b], (len(c), 2)),
+                      pts[c])
+    return c[o == 0].tolist()
 
 
 def _inside_any(pts, tris, point):

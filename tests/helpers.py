@@ -483,9 +483,12 @@ def check_segments(tri, points_in, segments_in, E=None, em=None, cover="all", st
     for s, (a, b) in enumerate(ends):
         if a == b:
             continue
-        # only where the segment's own pieces are exactly on it: a piece
+        # only where the pieces of s (its own and those of other segments
+        # lying along it, as defined above) are exactly on it: a piece
         # through a rounded crossing may leave a sliver next to the exact line
-        if not all(exact_on(s, v) for e in by_source[s] for v in e):
+        along = [e for t in by_source for e in by_source[t]
+                 if t == s or (near(s, e[0]) and near(s, e[1]))]
+        if not all(exact_on(s, v) for e in along for v in e):
             continue
         xs = sorted((P[a, 0], P[b, 0]))
         ys = sorted((P[a, 1], P[b, 1]))

@@ -1,30 +1,13 @@
 """PENDING (issue 8): inputs on which the engine still breaks its contract,
 found by the adversarial fuzzing at the end of the 2026-12-01 session.  Not
 collected by pytest (no test_ prefix).  Fix each bug, then add the case to
-tests/test_adversarial.py with the contract checks used there.
+tests/test_adversarial.py (constraint insertion cases:
+tests/test_adversarial_segments.py) with the contract checks used there.
 
 Each entry: what goes wrong, the call, and the data.
 """
 
 OPEN_CASES = [
-    dict(problem="nearly collinear crossings at 1e-8 scale: refused with a ValueError "
-                 "(was a hang); valid input should triangulate",
-         call="engine.triangulate(pts, segs, fill='hull')",
-         pts=[[4.2000000000000006e-08, 1.4000000000000001e-08],
-              [-1.6e-08, -5.333333333333333e-09], [2.8000000000000003e-08, 9.333333333333334e-09],
-              [2.2000000000000002e-08, 7.333333333333334e-09],
-              [3.8e-08, 1.2666666666666668e-08], [6.000000000000001e-09, 2e-09],
-              [6.000000000000001e-09, 2e-09], [-7.000000000000001e-09, -2.3333333333333335e-09],
-              [-4.6e-08, -1.5333333333333335e-08], [3.4e-08, 1.1333333333333334e-08]],
-         segs=[[2, 5], [4, 6], [0, 7], [2, 3]]),
-    dict(problem="a point exactly on segment (1, 2) does not split it after a rounded "
-                 "crossing (independent checker; engine.validate misses it)",
-         call="engine.triangulate(pts, segs, fill='hull')",
-         pts=[[999999.994, 999999.998], [999999.972, 999999.9906666667],
-              [1000000.045, 1000000.015], [1000000.009, 1000000.003],
-              [999999.999, 999999.9996666666], [999999.979, 999999.993],
-              [999999.998, 999999.9993333333], [999999.955, 1000000.0003333336]],
-         segs=[[5, 3], [4, 0], [1, 2]]),
     dict(problem="refine leaves 2 unconstrained edges not locally Delaunay when max_points "
                  "stops it (a pentagon with two triangular holes, nonzero fill, "
                  "min_angle=35, off_centers=False, caps 69-76, 87-90, 99-104); also one "
@@ -42,7 +25,26 @@ OPEN_CASES = [
                  "float32 noise floor (~0.48 there) is larger than the feature, so the "
                  "vector area changes; float64 input should keep the fin",
          call="engine.remesh_flat_regions(panel_with_fin_at_1e6)"),
-    dict(problem="RecursionError at 1e9 scale for 20 points on y = x/3 with crossing "
-                 "segments (nesting is now capped at MAX_NESTING; check the outcome)",
-         call="engine.triangulate(points_on_a_line_scaled_1e9, crossing_segments)"),
+    dict(problem="snap rounding at 1e6 (rings near 1e6, a nearly parallel pair): segment "
+                 "(28, 30) not covered / a piece off its segment; the route of (6, 7) "
+                 "misses the hot pixel of a crossing on it, so the untangling pass "
+                 "routes through a far end (found by the long segment-set fuzzing)",
+         call="engine.triangulate(pts, segs, fill='hull')",
+         pts=[[999999.984, 999999.937], [999999.937, 999999.984], [999999.937, 1000000.016],
+              [999999.94, 999999.975], [999999.94, 1000000.025], [999999.944, 999999.967],
+              [999999.944, 1000000.033], [1000000.033, 999999.944], [999999.948, 1000000.039],
+              [999999.961, 999999.948], [999999.961, 1000000.052], [999999.967, 999999.944],
+              [999999.967, 1000000.056], [1000000.052, 999999.961], [999999.975, 1000000.06],
+              [999999.935, 1000000.0], [999999.984, 1000000.063], [1000000.0, 999999.935],
+              [1000000.0, 1000000.065], [1000000.016, 999999.937], [1000000.016, 1000000.063],
+              [1000000.025, 999999.94], [1000000.025, 1000000.06], [999999.948, 999999.961],
+              [1000000.033, 1000000.056], [1000000.039, 999999.948],
+              [1000000.039, 1000000.052], [1000000.056, 1000000.033],
+              [1000000.056, 999999.967], [1000000.052, 1000000.039], [999999.975, 999999.94],
+              [1000000.06, 999999.975], [1000000.06, 1000000.025], [1000000.063, 999999.984],
+              [1000000.063, 1000000.016], [1000000.065, 1000000.0], [999999.935, 1000000.0],
+              [999999.935, 1000000.0], [999999.935, 1000000.0], [999999.935, 1000000.0],
+              [999999.9349999999, 1000000.0], [999999.9349999999, 1000000.0],
+              [999999.9349999999, 1000000.0]],
+         segs=[[0, 28], [6, 7], [28, 30]]),
 ]
