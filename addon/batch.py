@@ -226,6 +226,86 @@ def check_input(path):
                           f"(read: {', '.join(FORMATS)})")
     if not os.access(path, os.R_OK):
         raise FileProblem("cannot read the file (permission denied)")
+    if path.stat().st_size == 0:
+        raise FileProblem("empty file")
+    if suffix(path) == ".stl":
+        check_stl(path)
+    elif suffix(path) == ".obj":
+        check_obj(path)
+
+
+STL_HEADER = 84          # binary STL: 80-byte header, uint32 triangle count
+STL_TRIANGLE = 50        # normal, three corners (12 float32) and a uint16
+
+
+def check_stl(path):
+    """The host's STL importer reads what it can and says nothing about the rest, so the
+    layout is checked first: a binary file is exactly 84 + 50 x its triangle count
+    bytes; anything else must be ASCII ("solid" ...) with three numbers per vertex."""
+    size = path.stat().st_size
+    with open(path, "rb") as f:
+        head = f.read(STL_HEADER)
+    if len(head) == STL_HEADER:
+        count = int.from_bytes(head[80:84], "little")
+        if size == STL_HEADER + STL_TRIANGLE * count:
+            layout = np.dtype([("normal", "<f4", 3), ("corners", "<f4", (3, 3)),
+                               ("extra", "<u2")])
+            corners = np.fromfile(path, dtype=layout, count=count, offset=STL_HEADER)["corners"]
+            bad = np.flatnonzero(~np.isfinite(corners).all(axis=(1, 2)))
+            if len(bad):   # the host's importer would quietly turn them into zeros
+                raise FileProblem(f"binary STL triangle {int(bad[0]) + 1}: a corner is not "
+                                  f"finite (NaN or inf)")
+            return
+    if not head.lstrip().lower().startswith(b"solid"):
+        if len(head) < STL_HEADER:
+            raise FileProblem(f"truncated binary STL ({size} bytes, the header alone is "
+                              f"{STL_HEADER})")
+        raise FileProblem(f"not a readable STL file: its binary header says {count} "
+                          f"triangle(s), {STL_HEADER + STL_TRIANGLE * count} bytes, but the "
+                          f"file has {size} bytes")
+    with open(path, encoding="ascii", errors="replace") as f:
+        for number, line in enumerate(f, 1):
+            words = line.split()
+            if words and words[0].lower() == "vertex":
+                check_numbers(words[1:], f"ASCII STL line {number}: a vertex")
+
+
+def check_numbers(words, what):
+    """Three finite numbers, or a FileProblem naming `what` (the host's importers turn
+    NaN and inf into zeros without a word)."""
+    try:
+        values = [float(w) for w in words]
+    except ValueError:
+        values = []
+    if len(values) != 3:
+        raise FileProblem(f"{what} needs three numbers, got {' '.join(words)[:40]!r}")
+    if not all(map(math.isfinite, values)):
+        raise FileProblem(f"{what} is not finite (NaN or inf): {' '.join(words)[:40]}")
+
+
+def check_obj(path):
+    """Every face corner must name a vertex defined before it (OBJ indices count from 1;
+    negative ones count back from the last vertex); the host's importer drops faces
+    that do not, silently."""
+    vertices = 0
+    with open(path, encoding="utf-8", errors="replace") as f:
+        for number, line in enumerate(f, 1):
+            words = line.split()
+            if not words:
+                continue
+            if words[0] == "v":
+                vertices += 1
+                check_numbers(words[1:4], f"OBJ line {number}: a vertex")
+            elif words[0] == "f":
+                for corner in words[1:]:
+                    try:
+                        index = int(corner.split("/")[0])
+                    except ValueError:
+                        raise FileProblem(f"OBJ line {number}: face corner {corner!r} is not "
+                                          f"a vertex number") from None
+                    if not (1 <= index <= vertices or -vertices <= index <= -1):
+                        raise FileProblem(f"OBJ line {number}: face corner {index} is out of "
+                                          f"range ({vertices} vertices so far)")
 
 
 def check_output(path):
@@ -357,6 +437,10 @@ def remesh_object(ob, options, merge_distance):
     from . import jobs, mesh_bridge, operators
 
     start = time.perf_counter()
+    try:      # before welding: a weld merges a NaN position into a finite one
+        jobs.check_finite(mesh_bridge.read_mesh(ob.data).positions)
+    except ValueError as exc:
+        raise FileProblem(f"cannot remesh object {ob.name!r} ({exc})") from None
     merged = weld(ob, merge_distance)
     data = mesh_bridge.read_mesh(ob.data, len(ob.vertex_groups))
     world = mesh_bridge.world_positions(data, ob.matrix_world)

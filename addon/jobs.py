@@ -133,16 +133,62 @@ def new_local_positions(data, edit):
                             edit.vertex_weight_indices, edit.vertex_weight_values, MIX)
 
 
+def check_finite(positions):
+    """ValueError naming the first vertex whose position holds a NaN or an infinity."""
+    bad = np.flatnonzero(~np.isfinite(positions).all(axis=1))
+    if len(bad):
+        raise ValueError(f"{len(bad)} vertex position(s) are not finite (NaN or inf), "
+                         f"e.g. vertex {int(bad[0])}")
+
+
+def check_editable(data, world):
+    """ValueError when the host's edit structure (bmesh) cannot take the mesh safely:
+    a non-finite position, or a face listing a vertex more than once (bmesh's edge
+    cycles break on such faces; the host's own ``Mesh.validate`` removes them)."""
+    check_finite(world)
+    totals = np.asarray(data.loop_totals, dtype=np.int64)
+    face_of = np.repeat(np.arange(len(totals)), totals)
+    keys = face_of * (data.vertex_count + 1) + np.asarray(data.corner_verts, dtype=np.int64)
+    uniq, counts = np.unique(keys, return_counts=True)
+    repeated = np.unique(uniq[counts > 1] // (data.vertex_count + 1))
+    if len(repeated):
+        raise ValueError(f"{len(repeated)} face(s) use a vertex more than once, e.g. face "
+                         f"{int(repeated[0])} (clean the mesh up first)")
+
+
+def duplicate_faces(data):
+    """Every face with the same set of corners as another face, and one report per
+    group of copies (the host keeps one face per corner set, so no copy is rebuilt)."""
+    totals = np.asarray(data.loop_totals, dtype=np.int64)
+    starts = np.asarray(data.loop_starts, dtype=np.int64)
+    cv = np.asarray(data.corner_verts, dtype=np.int64)
+    groups = {}
+    for f, (s, t) in enumerate(zip(starts.tolist(), totals.tolist())):
+        groups.setdefault(tuple(sorted(cv[s:s + t].tolist())), []).append(f)
+    copies = [g for g in groups.values() if len(g) > 1]
+    faces = np.array(sorted(f for g in copies for f in g), dtype=np.int64)
+    reports = [engine.RegionReport(region=-1, faces=len(g), status="skipped",
+                                   reason="duplicate faces (the same corners twice)",
+                                   face_ids=list(g)) for g in copies]
+    return faces, reports
+
+
 def remesh_plan(data, world, face_mask, break_pairs, *, min_angle, max_edge_length,
                 flat_angle, keep_boundary, smoothing, straight_run_tolerance,
                 keep_interior_vertices, point_limit):
     """``engine.remesh_flat_regions`` on one mesh; returns the MeshEdit.
 
-    Guard: a region whose result holds a zero-area triangle is masked out and the
-    engine run again without it (at most twice); it is reported as skipped."""
+    Refused (ValueError) when :func:`check_editable` finds a problem or when points
+    would be added on the edges of duplicate faces (the copies would become one face);
+    otherwise duplicate faces are left out and reported as skipped.  Guard: a region whose result holds a
+    zero-area triangle is masked out and the engine run again without it (at most
+    twice); it is reported as skipped."""
+    check_editable(data, world)
     breaks = np.asarray(break_pairs, dtype=np.int64).reshape(-1, 2)
     mask = np.asarray(face_mask, dtype=bool).copy()
-    excluded = []
+    twins, excluded = duplicate_faces(data)
+    excluded = [r for r in excluded if mask[r.face_ids].any()]
+    mask[twins] = False
     for _attempt in range(3):
         edit = engine.remesh_flat_regions(
             world, polygons(data), face_mask=mask, flat_angle=float(flat_angle),
@@ -165,6 +211,11 @@ def remesh_plan(data, world, face_mask, break_pairs, *, min_angle, max_edge_leng
             mask[faces] = False
     else:
         raise RuntimeError("the engine kept returning zero-area triangles")
+    rebuilt = np.intersect1d(edit.replaced_faces, twins)
+    if len(rebuilt):
+        raise ValueError(f"{len(twins)} face(s) repeat the corners of another face, e.g. "
+                         f"face {int(rebuilt[0])}, and points would be added on their "
+                         f"edges (remove the copies first)")
     edit.regions = list(edit.regions) + excluded
     return edit
 
@@ -172,12 +223,15 @@ def remesh_plan(data, world, face_mask, break_pairs, *, min_angle, max_edge_leng
 def degenerate_sources(world, edit, relative=1e-6):
     """Original faces whose new triangles include a degenerate one: twice its area below
     `relative` times its longest edge squared (a smallest angle under about 6e-5
-    degrees; input slivers are far above that)."""
+    degrees; input slivers are far above that).  Measured on positions rounded to
+    float32, as the host stores them: new points a few float64 steps from others
+    would coincide there."""
     sizes = np.diff(edit.faces.starts)
     tri = np.flatnonzero(sizes == 3)
     if len(tri) == 0:
         return np.zeros(0, dtype=np.int64)
     positions = np.vstack((world, np.asarray(edit.new_vertices).reshape(-1, 3)))
+    positions = positions.astype(np.float32).astype(np.float64)
     corners = edit.faces.corners[edit.faces.starts[tri][:, None] + np.arange(3)]
     p = positions[corners]
     cross = np.linalg.norm(np.cross(p[:, 1] - p[:, 0], p[:, 2] - p[:, 0]), axis=1)
@@ -233,9 +287,13 @@ def flip_plan(data, world, face_mask, break_pairs, flat_angle, locator):
     locator(points (P, 2), triangles (T, 3)) returns a function mapping (K, 2) query
     points to the index of the triangle containing each (the host passes one built on
     its own BVH tree).  Returns (MeshEdit, flip count)."""
+    check_editable(data, world)
     polys = polygons(data)
     n = data.vertex_count
     mask = np.asarray(face_mask, dtype=bool) & (data.loop_totals == 3)
+    twins, twin_reports = duplicate_faces(data)
+    twin_reports = [r for r in twin_reports if mask[r.face_ids].any()]
+    mask[twins] = False
     edges = EdgeTable(polys, n)
     break_ids = {edges.lookup(int(a), int(b)) for a, b in np.asarray(break_pairs).tolist()}
     break_ids.discard(-1)
@@ -313,7 +371,7 @@ def flip_plan(data, world, face_mask, break_pairs, flat_angle, locator):
         "corner_weight_indices": np.array(flat_rows, dtype=np.int64),
         "corner_weight_values": np.ones(len(flat_rows)),
         "dropped_vertices": np.zeros(0, dtype=np.int64),
-        "regions": reports}
+        "regions": reports + twin_reports}
     # the engine's MeshEdit may grow fields; fill the ones it has
     names = {f.name for f in dataclasses.fields(engine.MeshEdit)}
     edit = engine.MeshEdit(**{k: v for k, v in values.items() if k in names})

@@ -166,7 +166,8 @@ def read_mesh(mesh, vertex_groups=0):
 def world_positions(data, matrix):
     """(N, 3) float64 positions transformed by a 4 x 4 matrix (the object's)."""
     m = np.array(matrix, dtype=np.float64).reshape(4, 4)
-    return data.positions @ m[:3, :3].T + m[:3, 3]
+    with np.errstate(invalid="ignore", over="ignore"):    # non-finite input is refused later
+        return data.positions @ m[:3, :3].T + m[:3, 3]
 
 
 def break_edge_pairs(data, seams=True, sharp=True, material_borders=True):
@@ -234,18 +235,32 @@ class Backup:
 
     def __init__(self, mesh, data):
         self.data = data
+        self.layers = {a.name for a in mesh.attributes}
         self.bm = bmesh.new()
         self.bm.from_mesh(mesh)
 
     def restore(self, mesh):
         self.bm.to_mesh(mesh)
+        # writing a bmesh adds flag layers (hiding, UV selection) the mesh did not have
+        for name in [a.name for a in mesh.attributes if a.name not in self.layers]:
+            layer = mesh.attributes.get(name)
+            if layer is not None:
+                mesh.attributes.remove(layer)
         for attr in self.data.attributes:
             target = mesh.attributes.get(attr.name)
+            if target is None and not attr.name.startswith("."):
+                # a user layer holding only defaults, which writing a bmesh drops
+                target = mesh.attributes.new(attr.name, attr.data_type, attr.domain)
             if target is not None and target.domain == attr.domain:
                 _set(target.data, attr.key, attr.values)
         for (collection, flag), values in self.data.flags.items():
-            if flag_usable(mesh, collection, flag):
-                _set(getattr(mesh, collection), flag, values)
+            if not flag_usable(mesh, collection, flag):
+                continue
+            name = FLAG_LAYER[collection, flag]
+            if name in self.layers and mesh.attributes.get(name) is None:
+                # dropped as all False by the bmesh write; a new layer is all False too
+                mesh.attributes.new(name, 'BOOLEAN', DOMAIN_OF[collection])
+            _write_flag(mesh, collection, flag, values)   # no layer made needlessly
         if mesh.shape_keys is not None:
             for name, co in self.data.shape_keys:
                 block = mesh.shape_keys.key_blocks.get(name)
@@ -276,14 +291,23 @@ def commit(mesh, data, edit, new_positions, group_rows=None, select_new=False):
     new_positions (M, 3) local positions of the new vertices; group_rows from
     :func:`vertex_group_rows` for the vertices the new ones are weighted over.
     Returns (:class:`Written`, :class:`Backup`); on failure the mesh is restored and
-    the exception re-raised.  The caller frees the backup (or restores with it)."""
-    backup = Backup(mesh, data)
+    the exception re-raised.  The caller frees the backup (or restores with it).
+    The new topology is built in a separate bmesh first: a failure there leaves the
+    mesh untouched."""
+    bm, written = _build(mesh, data, edit, new_positions, group_rows)
+    backup = None
     try:
-        written = _write(mesh, data, edit, new_positions, group_rows, select_new)
+        backup = Backup(mesh, data)
+        bm.to_mesh(mesh)
+        _write_data(mesh, data, edit, written, select_new)
+        mesh.update()
     except Exception:
-        backup.restore(mesh)
-        backup.free()
+        if backup is not None:
+            backup.restore(mesh)
+            backup.free()
         raise
+    finally:
+        bm.free()
     return written, backup
 
 
@@ -325,7 +349,9 @@ def _sort_kept_then_new(seq, old, new):
     return final_old, int(survivors.sum()) + np.arange(len(new_index))
 
 
-def _write(mesh, data, edit, new_positions, group_rows, select_new):
+def _build(mesh, data, edit, new_positions, group_rows):
+    """The edited topology as a new bmesh (the mesh itself is not changed) and the
+    index maps; the caller writes it and frees it."""
     n = data.vertex_count
     if edit.vertex_count != n or len(mesh.vertices) != n or len(mesh.polygons) != len(
             data.loop_starts):
@@ -363,13 +389,10 @@ def _write(mesh, data, edit, new_positions, group_rows, select_new):
                     dv[g] = min(max(wt, 0.0), 1.0)
         vertex_map, new_vertex_map = _sort_kept_then_new(bm.verts, old_verts, new_verts)
         face_map, new_face_map = _sort_kept_then_new(bm.faces, old_faces, new_faces)
-        written = Written(vertex_map, new_vertex_map, face_map, new_face_map)
-        bm.to_mesh(mesh)
-    finally:
+    except Exception:
         bm.free()
-    _write_data(mesh, data, edit, written, select_new)
-    mesh.update()
-    return written
+        raise
+    return bm, Written(vertex_map, new_vertex_map, face_map, new_face_map)
 
 
 def _write_data(mesh, data, edit, written, select_new):
@@ -424,8 +447,8 @@ def _write_data(mesh, data, edit, written, select_new):
             out[has_src] = vals[edge_src[has_src]]
         target = mesh.attributes.get(attr.name)
         if target is None or target.domain != attr.domain or target.data_type != attr.data_type:
-            if not out.any():
-                continue      # a layer the mesh drops when it holds only defaults
+            if attr.name.startswith(".") and not out.any():
+                continue      # an internal layer the mesh drops when it holds only defaults
             target = mesh.attributes.new(attr.name, attr.data_type, attr.domain)
         _set(target.data, attr.key, out)
     if mesh.shape_keys is not None:

@@ -82,12 +82,19 @@ select mode so exactly those faces are selected)"""
         return context.mode == 'EDIT_MESH'
 
     def execute(self, context):
-        context.tool_settings.mesh_select_mode = (False, False, True)
-        total = 0
         objects = edit_meshes(context)
+        arrays = []
         for ob in objects:
             ob.update_from_editmode()  # the bulk arrays must see the edit mesh
-            positions, starts, totals, corner_verts, hidden = read_mesh_arrays(ob.data)
+            arrays.append(read_mesh_arrays(ob.data))
+            try:
+                jobs.check_finite(arrays[-1][0])
+            except ValueError as exc:   # no angle to measure: refuse, change nothing
+                self.report({'WARNING'}, f"{self.bl_label}: nothing changed ({ob.name}: {exc})")
+                return {'CANCELLED'}
+        context.tool_settings.mesh_select_mode = (False, False, True)
+        total = 0
+        for ob, (positions, starts, totals, corner_verts, hidden) in zip(objects, arrays):
             thin = np.flatnonzero(thin_triangle_mask(positions, starts, totals,
                                                      corner_verts, self.min_angle, hidden))
             bm = bmesh.from_edit_mesh(ob.data)
@@ -197,20 +204,25 @@ def run_job(operator, context, objects, plan_one, edit_mode, kind):
     wm.progress_begin(0, 2 * len(objects) + 1)
     figures = jobs.Figures()
     in_mode = list(context.objects_in_mode) if edit_mode else []
+    planning = None      # the object being planned, named in a failure's report
     try:
         if edit_mode:   # the mesh API reads and writes bulk data in Object Mode
             bpy.ops.object.mode_set(mode='OBJECT')
         plans = []
         for step, ob in enumerate(objects):
+            planning = ob.name
             data = mesh_bridge.read_mesh(ob.data, len(ob.vertex_groups))
             plans.append(plan_one(ob, data, figures))
             figures.meshes += 1
             wm.progress_update(step + 1)
+        planning = None
         write_all(plans)
         wm.progress_update(2 * len(objects) + 1)
     except Exception as exc:  # noqa: BLE001 (any failure cancels with nothing changed)
+        where = f"{planning}: " if planning else ""
+        text = " ".join(str(exc).split())
         operator.report({'WARNING'}, f"{operator.bl_label}: nothing changed "
-                                     f"({type(exc).__name__}: {exc})")
+                                     f"({where}{type(exc).__name__}: {text})")
         return {'CANCELLED'}
     finally:
         if edit_mode:
