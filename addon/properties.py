@@ -44,8 +44,9 @@ def setting_properties():
             default=False),
         "point_limit": IntProperty(
             name="Point Limit",
-            description="Most new vertices added per region, a count; a region that "
-                        "reaches it keeps what was done so far (0 = no limit)",
+            description="Most points refinement adds in each region, a count (points a "
+                        "neighbouring region puts on a shared edge come on top); a region "
+                        "that reaches it keeps what was done so far (0 = no limit)",
             default=200000, min=0, soft_max=1000000),
         "flat_angle": FloatProperty(
             name="Flat Angle",

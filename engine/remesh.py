@@ -66,7 +66,9 @@ def remesh_flat_regions(vertices, faces, *, face_mask=None, flat_angle=1.0, flat
                     float32 rounding floor).
     min_angle, max_edge, max_area, smoothing, size_growth, max_points:
                     passed to :func:`engine.refine` (degrees / mesh units /
-                    square units / points per region).
+                    square units / points refinement adds in each region;
+                    points a neighbouring region puts on a shared edge come
+                    on top).
     keep_boundary   True: no border edge of any region changes.
     break_edges     (K, 2) vertex pairs no region may cross (seams, sharp
                     edges, material borders: the caller decides).
