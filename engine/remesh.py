@@ -62,7 +62,8 @@ def remesh_flat_regions(vertices, faces, *, face_mask=None, flat_angle=1.0, flat
     flat_angle      degrees: largest normal difference inside a region.
     flat_distance   largest distance of a vertex from the region's plane, in
                     mesh units (default: 1e-4 of the region's size plus a
-                    float32 rounding floor).
+                    rounding floor: float32 spacing when every coordinate is
+                    a float32 value, else float64 spacing).
     min_angle, max_edge, max_area, smoothing, size_growth, max_points:
                     passed to :func:`engine.refine` (degrees / mesh units /
                     square units / points per region).
@@ -283,16 +284,19 @@ class _EditBuilder:
         if max(counts) > 2:
             raise RegionSkipped("non-manifold edge inside the region")
         border = []          # directed (u, v, edge id, corner at u)
-        inner = []           # break edges inside: (u, v, edge id, corner at u)
+        inner = []           # edges kept inside: (u, v, edge id, corner at u)
         region_vertices = set(cv[corners].tolist())
         corner_of_edge = {}
+        uses_of_edge = np.diff(edges.corner_starts)
         for c, e in zip(corners.tolist(), edge_ids.tolist()):
             u, v = int(cv[c]), int(cv[nxt[c]])
-            corner_of_edge.setdefault(e, (c, int(nxt[c]), u, v))
             if count_of[e] == 1:
                 border.append((u, v, e, c))
-            elif e in self.break_ids and u < v:
+            elif e not in corner_of_edge and (e in self.break_ids or uses_of_edge[e] > 2):
+                # a break edge, or a fold where faces outside the region
+                # (a fin) meet the region's inside: kept, split alike on all sides
                 inner.append((u, v, e, c))
+            corner_of_edge.setdefault(e, (c, int(nxt[c]), u, v))
         if not border:
             raise RegionSkipped("the region has no border (a closed flat surface)")
         border_vertices = {u for u, _, _, _ in border} | {v for _, v, _, _ in border}
@@ -389,16 +393,22 @@ class _EditBuilder:
                 vid = self._add_vertex(pos, [(v0, w0), (v1, w1), (v2, w2)], cpairs, f, (-1, -1))
                 vertex_corner[vid] = cpairs
             vid_of.append(vid)
-        region_corner_at = {}
+        region_corner_at = {}       # vertex -> its corner in the largest face using it
         face_corner = {}
+        face_area = self.face_areas
         for c in corners.tolist():
             v = int(cv[c])
-            region_corner_at.setdefault(v, c)
-            face_corner[(int(polys_face_of[c]), v)] = c
+            g = int(polys_face_of[c])
+            best = region_corner_at.get(v)
+            if best is None or face_area[g] > face_area[polys_face_of[best]]:
+                region_corner_at[v] = c
+            face_corner[(g, v)] = c
         # a new triangle's source face: the face holding one of its new
-        # interior vertices, else a region face at one of its corners (regions
-        # never cross a change of face data, so any of them carries the same)
-        default_face = faces[0]
+        # interior vertices, else the largest region face at one of its
+        # corners (regions never cross a change of face data, so any of them
+        # carries the same; the largest has the best-defined plane, where a
+        # sliver's normal may be rounding noise)
+        default_face = max(faces, key=lambda g: face_area[g])
         for (a, b, c) in refined.triangles.tolist():
             ids = [vid_of[a], vid_of[b], vid_of[c]]
             f = -1
@@ -409,9 +419,10 @@ class _EditBuilder:
             if f < 0:
                 for x in ids:
                     if x < self.n and x in region_corner_at:
-                        f = int(polys_face_of[region_corner_at[x]])
-                        break
-                else:
+                        g = int(polys_face_of[region_corner_at[x]])
+                        if f < 0 or face_area[g] > face_area[f]:
+                            f = g
+                if f < 0:
                     f = default_face
             weights = []
             for x in ids:
