@@ -971,7 +971,11 @@ class _Rounds:
         self.stats["circumcenters"] += len(pw) - n_off
         self.nv += nw
         self.ntri += int(extra[w].sum())
-        flipped = self._legalize(new_c)
+        # a split point rounded off its segment may lie outside the
+        # circumcircle of a triangle the split removes: its fan's own edges
+        # are suspect too (engine.refine._Refiner._legalize_fan)
+        fan = b3[is_seg[fc]]
+        flipped = self._legalize(np.concatenate((new_c, fan, fan + 1)))
         return nw, np.concatenate((slot, flipped))
 
     # ------------------------------------------------------------ flips

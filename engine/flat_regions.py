@@ -15,7 +15,10 @@ face mask.  Faces so thin that rounding noise dominates their normal (as
 slivers from float32 STL files are) join on the distance test alone.
 
 The default distance tolerance is relative to the region: 1e-4 of its
-bounding-box diagonal, plus a floor for float32 rounding of the coordinates.
+bounding-box diagonal, plus a floor for the rounding of the coordinates:
+float32 rounding when every coordinate is a float32 value (an STL file, a
+host that stores single precision), else float64 rounding (IEEE 754
+spacing 2**-23 and 2**-52 relative to the largest coordinate).
 """
 
 import math
@@ -25,8 +28,10 @@ import numpy as np
 
 from .polygons import corner_ranges
 
-# float32 spacing relative to magnitude (2**-23), times a small safety factor
+# float32 / float64 spacing relative to magnitude (2**-23, 2**-52), times a
+# small safety factor
 FLOAT32_NOISE = 4.0 * 2.0 ** -23
+FLOAT64_NOISE = 4.0 * 2.0 ** -52
 RELATIVE_FLATNESS = 1e-4
 
 
@@ -117,7 +122,7 @@ def find_regions(vertices, polys, *, face_mask, flat_angle, flat_distance, break
     area = 0.5 * length
     neighbours = face_adjacency(polys, edges, face_mask, break_edge_ids)
     cos_limit = math.cos(math.radians(flat_angle))
-    noise_floor = FLOAT32_NOISE * float(np.abs(vertices).max(initial=0.0))
+    noise_floor = rounding_floor(vertices)
     starts, corners = polys.starts, polys.corners
     sizes = np.diff(starts)
     pos = vertices[corners]
@@ -194,3 +199,14 @@ def find_regions(vertices, polys, *, face_mask, flat_angle, flat_distance, break
         regions.append(Region(faces=sorted(members), normal=fitted, origin=origin_fit,
                               tolerance=tol, deviation=deviation))
     return regions, region_of_face
+
+
+def rounding_floor(vertices):
+    """Rounding noise of the coordinates: float32 spacing when every
+    coordinate is a float32 value, else float64 spacing (a float64 mesh keeps
+    features far below float32 resolution, e.g. a millimetre fin at 1e6)."""
+    v = np.asarray(vertices, dtype=np.float64)
+    big = float(np.abs(v).max(initial=0.0))
+    with np.errstate(over="ignore"):
+        single = bool(np.array_equal(v.astype(np.float32).astype(np.float64), v))
+    return (FLOAT32_NOISE if single else FLOAT64_NOISE) * big

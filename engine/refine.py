@@ -938,7 +938,32 @@ class _Refiner(SmoothingSteps):
             mesh.add_constraint_info(p, hi, source, net, count)
         self.stats["segment_splits"] += 1
         self._after_insert(p, slots, halves=(u, v))
+        if orient2d(x[u], y[u], x[v], y[v], px, py) != 0:
+            self._legalize_fan(slots)
         return True
+
+    def _legalize_fan(self, slots):
+        """Lawson flips over every edge of the triangles `slots`.  A split
+        point rounded off its segment may lie outside the circumcircle of a
+        triangle beside the segment, which the split removes all the same:
+        the fan may then hold edges that are not locally Delaunay."""
+        mesh = self.mesh
+        tv, tn, tc = mesh.tv, mesh.tn, mesh.tc
+        is_illegal, flip = mesh.edge_is_illegal, mesh.flip
+        stack = [3 * t + k for t in slots for k in (0, 1, 2)]
+        touched = set()
+        while stack:
+            c = stack.pop()
+            if tv[c] == DEAD or not is_illegal(c):
+                continue
+            touched.add(c // 3)
+            touched.add(tn[c] // 3)
+            stack.extend(flip(c))
+        if touched:
+            slots = sorted(touched)
+            for t in slots:
+                self._push_if_bad(t)
+            self._after_insert_all(-1, slots)
 
     def _freeze(self, key):
         if key not in self.unsplittable:

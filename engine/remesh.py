@@ -63,7 +63,8 @@ def remesh_flat_regions(vertices, faces, *, face_mask=None, flat_angle=1.0, flat
     flat_angle      degrees: largest normal difference inside a region.
     flat_distance   largest distance of a vertex from the region's plane, in
                     mesh units (default: 1e-4 of the region's size plus a
-                    float32 rounding floor).
+                    rounding floor: float32 spacing when every coordinate is
+                    a float32 value, else float64 spacing).
     min_angle, max_edge, max_area, smoothing, size_growth, max_points:
                     passed to :func:`engine.refine` (degrees / mesh units /
                     square units / points refinement adds in each region;
@@ -266,22 +267,23 @@ class _EditBuilder:
         uniq, first, counts = np.unique(edge_ids, return_index=True, return_counts=True)
         if counts.max() > 2:
             raise RegionSkipped("non-manifold edge inside the region")
-        count_here = counts[np.searchsorted(uniq, edge_ids)]
-        on_border = count_here == 1
-        on_break = ~on_border & np.isin(edge_ids, np.fromiter(self.break_ids, dtype=np.int64,
-                                                              count=len(self.break_ids)))
-        # the region face holding each outline or break edge: its first corner there
-        corner_of_edge = {}
-        for c in corners[first[counts == 1].tolist() + first[
-                np.isin(uniq, edge_ids[on_break])].tolist()].tolist():
-            corner_of_edge[int(edges.edge_of_corner[c])] = (c, int(nxt[c]), int(cv[c]),
-                                                            int(cv[nxt[c]]))
-        def directed(mask):       # (u, v, edge id, corner at u)
-            cs = corners[mask]
-            return list(zip(cv[cs].tolist(), cv[nxt[cs]].tolist(), edge_ids[mask].tolist(),
+        on_border = np.flatnonzero(counts[np.searchsorted(uniq, edge_ids)] == 1)
+        # edges kept inside: break edges, and folds where faces outside the
+        # region (a fin) meet its inside; split alike on all sides
+        breaks = np.fromiter(self.break_ids, dtype=np.int64, count=len(self.break_ids))
+        uses_of_edge = np.diff(edges.corner_starts)
+        kept = (counts == 2) & (np.isin(uniq, breaks) | (uses_of_edge[uniq] > 2))
+        inside = np.sort(first[kept])
+
+        def directed(idx):       # (u, v, edge id, corner at u) for positions in `corners`
+            cs = corners[idx]
+            return list(zip(cv[cs].tolist(), cv[nxt[cs]].tolist(), edge_ids[idx].tolist(),
                             cs.tolist()))
         border = directed(on_border)
-        inner = [t for t in directed(on_break) if t[0] < t[1]]     # break edges inside
+        inner = directed(inside)
+        # the region face holding each outline or inner edge: its first corner there
+        corner_of_edge = {e: (c, cn, u, v) for u, v, e, c, cn in zip(
+            *zip(*(border + inner)), nxt[corners[np.concatenate((on_border, inside))]].tolist())}
         if not border:
             raise RegionSkipped("the region has no border (a closed flat surface)")
         region_v, uses = np.unique(cv[corners], return_counts=True)
@@ -350,7 +352,7 @@ class _EditBuilder:
         vid_of, free, free_corners, free_weights = self._new_vertices(
             refined, point_ids, segment_edge, proj, face_tris, face_tri_corners)
         block = self._triangle_block(refined.triangles, vid_of, free, free_corners,
-                                     free_weights, corners, corner_of_edge, faces[0])
+                                     free_weights, corners, corner_of_edge)
         self.region_blocks.append((len(self.reports), block))
         self.replaced.update(faces)
         keys_here = set()
@@ -407,22 +409,29 @@ class _EditBuilder:
         vid_of[free] = self.vstore.add_block(pos, vidx, bary, tc[:, 3])
         return vid_of, free, tc, bary
 
-    def _triangle_block(self, tris, vid_of, free, free_tc, free_w, corners, corner_of_edge,
-                        default_face):
+    def _triangle_block(self, tris, vid_of, free, free_tc, free_w, corners, corner_of_edge):
         """The region's new triangles with their source faces and corner
         weights.  A triangle's source face is the face holding one of its
-        interior points, else a region face at one of its corners (regions
-        never cross a change of face data, so any of them carries the same);
-        an original vertex takes its corner in that face (else its first
-        corner in the region), an interior point the three corners of its
-        face triangle, a point on an original edge the corners at the ends
-        of that edge."""
+        interior points, else the largest region face at one of its corners,
+        else the region's largest face (regions never cross a change of face
+        data, so any of them carries the same; the largest has the
+        best-defined plane, where a sliver's normal may be rounding noise).
+        An original vertex takes its corner in that face (else its corner in
+        the largest region face using it), an interior point the three
+        corners of its face triangle, a point on an original edge the
+        corners at the ends of that edge."""
         n, cv, foc = self.n, self.polys.corners, self.face_of_corner
+        area = self.face_areas
         tris = np.asarray(tris, dtype=np.int64).reshape(-1, 3)
         m = len(vid_of)
         region_v = cv[corners]
-        uniq_v, first = np.unique(region_v, return_index=True)
-        first_corner = corners[first]
+        corner_area = area[foc[corners]]
+        # per vertex, its corner in the largest face (the first such on ties)
+        order = np.lexsort((np.arange(len(corners)), -corner_area, region_v))
+        uniq_v, first = np.unique(region_v[order], return_index=True)
+        first_corner = corners[order[first]]
+        face_ids = foc[corners]
+        default_face = int(face_ids[np.argmax(corner_area)])
 
         def region_corner_of(vids):
             at = np.minimum(np.searchsorted(uniq_v, vids), len(uniq_v) - 1)
@@ -438,11 +447,15 @@ class _EditBuilder:
         face_of_free = np.full(m, -1, dtype=np.int64)
         face_of_free[free] = free_tc[:, 3]
         source = np.full(len(tris), default_face, dtype=np.int64)
-        for table in (face_of_orig, face_of_free):      # interior points win
-            cand = table[tris]
-            has = cand >= 0
-            ok = has.any(axis=1)
-            source[ok] = cand[ok, has.argmax(axis=1)[ok]]
+        cand = face_of_orig[tris]           # the largest face at a corner (first on ties)
+        cand_area = np.where(cand >= 0, area[np.maximum(cand, 0)], -1.0)
+        col = np.argmax(cand_area, axis=1)
+        ok = (cand >= 0).any(axis=1)
+        source[ok] = cand[ok, col[ok]]
+        cand = face_of_free[tris]           # an interior point's face wins
+        has = cand >= 0
+        ok = has.any(axis=1)
+        source[ok] = cand[ok, has.argmax(axis=1)[ok]]
         local = tris.reshape(-1)
         vid = vid_of[local]
         face_rep = np.repeat(source, 3)
