@@ -8,7 +8,9 @@
 * :class:`Figures`: the one-line report and the panel's figures.
 
 Positions handed to the engine are in world space (the object's matrix applied), so
-angles, lengths and tolerances are what the user sees in the scene.
+angles, lengths and tolerances are what the user sees in the scene.  The host stores
+positions in single precision, so the engine is told so (its rounding floor stays the
+float32 one after the float64 object transform).
 """
 
 import dataclasses
@@ -21,6 +23,8 @@ import numpy as np
 from . import transfer
 from .engine_link import EdgeTable, engine, find_regions
 from .transfer import MIX
+
+HOST_PRECISION = "float32"      # the host keeps vertex positions in single precision
 
 
 @dataclass
@@ -198,7 +202,8 @@ def remesh_plan(data, world, face_mask, break_pairs, *, min_angle, max_edge_leng
             keep_interior_vertices=bool(keep_interior_vertices), smoothing=bool(smoothing),
             max_points=int(point_limit) if point_limit > 0 else None,
             straighten_tolerance=float(straight_run_tolerance)
-            if straight_run_tolerance > 0 else None)
+            if straight_run_tolerance > 0 else None,
+            coordinate_precision=HOST_PRECISION)
         bad_sources = degenerate_sources(world, edit)
         if len(bad_sources) == 0:
             break
@@ -263,7 +268,8 @@ def regions_of(data, world, mask, breaks, flat_angle, faces):
     ids.discard(-1)
     regions, region_of_face = find_regions(world, polys, face_mask=mask,
                                            flat_angle=float(flat_angle), flat_distance=None,
-                                           break_edge_ids=ids, edges=edges)
+                                           break_edge_ids=ids, edges=edges,
+                                           coordinate_precision=HOST_PRECISION)
     wanted = sorted({int(region_of_face[f]) for f in faces if region_of_face[f] >= 0})
     if not wanted:     # grown faces outside every region: leave their neighbours out
         return [np.asarray(faces, dtype=np.int64)]
@@ -298,7 +304,8 @@ def flip_plan(data, world, face_mask, break_pairs, flat_angle, locator):
     break_ids = {edges.lookup(int(a), int(b)) for a, b in np.asarray(break_pairs).tolist()}
     break_ids.discard(-1)
     regions, _ = find_regions(world, polys, face_mask=mask, flat_angle=float(flat_angle),
-                              flat_distance=None, break_edge_ids=break_ids, edges=edges)
+                              flat_distance=None, break_edge_ids=break_ids, edges=edges,
+                              coordinate_precision=HOST_PRECISION)
     starts, cv = data.loop_starts, data.corner_verts
     replaced, new_faces, sources, corner_rows, reports = [], [], [], [], []
     regions_of_new = []

@@ -45,6 +45,7 @@ class Region:
     tolerance: float            # the distance tolerance used
     deviation: float = 0.0      # largest vertex distance from the fitted plane
     inner_edges: list = field(default_factory=list)   # break edges inside the region
+    noise_faces: frozenset = frozenset()   # faces whose normal is rounding noise
 
 
 def newell_normals(vertices, polys):
@@ -113,8 +114,9 @@ def face_adjacency(polys, edges, face_mask, break_edge_ids):
 
 
 def find_regions(vertices, polys, *, face_mask, flat_angle, flat_distance, break_edge_ids,
-                 edges=None):
-    """Group the masked faces into flat regions.  Returns (regions, region_of_face)."""
+                 edges=None, coordinate_precision="auto"):
+    """Group the masked faces into flat regions.  Returns (regions, region_of_face).
+    coordinate_precision: see :func:`rounding_floor`."""
     edges = edges or EdgeTable(polys, len(vertices))
     newell = newell_normals(vertices, polys)
     length = np.linalg.norm(newell, axis=1)
@@ -122,7 +124,7 @@ def find_regions(vertices, polys, *, face_mask, flat_angle, flat_distance, break
     area = 0.5 * length
     neighbours = face_adjacency(polys, edges, face_mask, break_edge_ids)
     cos_limit = math.cos(math.radians(flat_angle))
-    noise_floor = rounding_floor(vertices)
+    noise_floor = rounding_floor(vertices, coordinate_precision)
     starts, corners = polys.starts, polys.corners
     sizes = np.diff(starts)
     pos = vertices[corners]
@@ -132,7 +134,7 @@ def find_regions(vertices, polys, *, face_mask, flat_angle, flat_distance, break
         face_lo = np.minimum.reduceat(pos, starts[:-1], axis=0)
         face_hi = np.maximum.reduceat(pos, starts[:-1], axis=0)
     else:
-        longest = face_lo = face_hi = np.zeros((0, 3))
+        longest, face_lo, face_hi = np.zeros(0), np.zeros((0, 3)), np.zeros((0, 3))
     # plain Python numbers for the growing loop (faces are small)
     corner_xyz = pos.tolist()
     start_list = starts.tolist()
@@ -197,16 +199,28 @@ def find_regions(vertices, polys, *, face_mask, flat_angle, flat_distance, break
         tol = flat_distance if flat_distance is not None else \
             RELATIVE_FLATNESS * math.dist(hi, lo) + noise_floor
         regions.append(Region(faces=sorted(members), normal=fitted, origin=origin_fit,
-                              tolerance=tol, deviation=deviation))
+                              tolerance=tol, deviation=deviation,
+                              noise_faces=frozenset(member_ids[noisy[member_ids]].tolist())))
     return regions, region_of_face
 
 
-def rounding_floor(vertices):
-    """Rounding noise of the coordinates: float32 spacing when every
-    coordinate is a float32 value, else float64 spacing (a float64 mesh keeps
-    features far below float32 resolution, e.g. a millimetre fin at 1e6)."""
+PRECISIONS = ("auto", "float32", "float64")
+
+
+def rounding_floor(vertices, precision="auto"):
+    """Rounding noise of the coordinates.  precision "float32": the
+    coordinates were stored in single precision (an STL file, a host's mesh,
+    possibly moved by a float64 transform since); "float64": double
+    precision; "auto": float32 when every coordinate is exactly a float32
+    value, else float64 (a float64 mesh keeps features far below float32
+    resolution, e.g. a millimetre fin at 1e6)."""
+    if precision not in PRECISIONS:
+        raise ValueError(f"coordinate_precision must be one of {PRECISIONS}, got {precision!r}")
     v = np.asarray(vertices, dtype=np.float64)
     big = float(np.abs(v).max(initial=0.0))
-    with np.errstate(over="ignore"):
-        single = bool(np.array_equal(v.astype(np.float32).astype(np.float64), v))
+    if precision == "auto":
+        with np.errstate(over="ignore"):
+            single = bool(np.array_equal(v.astype(np.float32).astype(np.float64), v))
+    else:
+        single = precision == "float32"
     return (FLOAT32_NOISE if single else FLOAT64_NOISE) * big

@@ -52,7 +52,8 @@ class RegionSkipped(Exception):
 def remesh_flat_regions(vertices, faces, *, face_mask=None, flat_angle=1.0, flat_distance=None,
                         min_angle=30.0, max_edge=None, max_area=None, keep_boundary=False,
                         break_edges=None, keep_interior_vertices=False, smoothing=False,
-                        size_growth=None, max_points=None, straighten_tolerance=None):
+                        size_growth=None, max_points=None, straighten_tolerance=None,
+                        coordinate_precision="auto"):
     """Find the flat regions of a polygon mesh and re-triangulate them.
 
     vertices        (N, 3) positions.
@@ -63,8 +64,13 @@ def remesh_flat_regions(vertices, faces, *, face_mask=None, flat_angle=1.0, flat
     flat_angle      degrees: largest normal difference inside a region.
     flat_distance   largest distance of a vertex from the region's plane, in
                     mesh units (default: 1e-4 of the region's size plus a
-                    rounding floor: float32 spacing when every coordinate is
-                    a float32 value, else float64 spacing).
+                    rounding floor, see coordinate_precision).
+    coordinate_precision  "float32" when the coordinates were stored in
+                    single precision (STL files, host meshes, even after a
+                    float64 transform), "float64", or "auto": float32 when
+                    every coordinate is exactly a float32 value.  Sets the
+                    rounding floor of flatness tests and which thin faces
+                    count as rounding noise.
     min_angle, max_edge, max_area, smoothing, size_growth, max_points:
                     passed to :func:`engine.refine` (degrees / mesh units /
                     square units / points refinement adds in each region;
@@ -92,7 +98,7 @@ def remesh_flat_regions(vertices, faces, *, face_mask=None, flat_angle=1.0, flat
     regions, region_of_face = find_regions(
         verts, polys, face_mask=mask, flat_angle=float(flat_angle),
         flat_distance=None if flat_distance is None else float(flat_distance),
-        break_edge_ids=break_ids, edges=edges)
+        break_edge_ids=break_ids, edges=edges, coordinate_precision=coordinate_precision)
     options = dict(min_angle=min_angle, max_edge=max_edge, max_area=max_area,
                    keep_boundary=bool(keep_boundary), smoothing=smoothing,
                    size_growth=size_growth, max_points=max_points)
@@ -352,7 +358,8 @@ class _EditBuilder:
         vid_of, free, free_corners, free_weights = self._new_vertices(
             refined, point_ids, segment_edge, proj, face_tris, face_tri_corners)
         block = self._triangle_block(refined.triangles, vid_of, free, free_corners,
-                                     free_weights, corners, corner_of_edge)
+                                     free_weights, corners, corner_of_edge,
+                                     region.noise_faces)
         self.region_blocks.append((len(self.reports), block))
         self.replaced.update(faces)
         keys_here = set()
@@ -409,13 +416,15 @@ class _EditBuilder:
         vid_of[free] = self.vstore.add_block(pos, vidx, bary, tc[:, 3])
         return vid_of, free, tc, bary
 
-    def _triangle_block(self, tris, vid_of, free, free_tc, free_w, corners, corner_of_edge):
+    def _triangle_block(self, tris, vid_of, free, free_tc, free_w, corners, corner_of_edge,
+                        noise_faces=frozenset()):
         """The region's new triangles with their source faces and corner
         weights.  A triangle's source face is the face holding one of its
         interior points, else the largest region face at one of its corners,
         else the region's largest face (regions never cross a change of face
         data, so any of them carries the same; the largest has the
-        best-defined plane, where a sliver's normal may be rounding noise).
+        best-defined plane; faces whose normal is rounding noise, as float32
+        slivers, are never chosen this way).
         An original vertex takes its corner in that face (else its corner in
         the largest region face using it), an interior point the three
         corners of its face triangle, a point on an original edge the
@@ -448,6 +457,9 @@ class _EditBuilder:
         face_of_free[free] = free_tc[:, 3]
         source = np.full(len(tris), default_face, dtype=np.int64)
         cand = face_of_orig[tris]           # the largest face at a corner (first on ties)
+        if noise_faces:
+            noise = np.fromiter(noise_faces, dtype=np.int64, count=len(noise_faces))
+            cand = np.where(np.isin(cand, noise), -1, cand)
         cand_area = np.where(cand >= 0, area[np.maximum(cand, 0)], -1.0)
         col = np.argmax(cand_area, axis=1)
         ok = (cand >= 0).any(axis=1)

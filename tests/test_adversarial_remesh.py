@@ -16,6 +16,8 @@ import numpy as np
 import pytest
 
 import engine
+from engine.flat_regions import find_regions
+from engine.polygons import PolygonList
 
 from . import adversarial as A
 from . import helpers as H
@@ -213,3 +215,53 @@ def test_new_faces_do_not_take_a_sliver_as_their_source():
     assert np.array_equal(v.astype(np.float32).astype(np.float64), v)
     edit = expect_remesh_contract(v, f, min_angle=0.0, max_points=0, flat_angle=0.5)
     assert len(edit.faces) and 0 not in edit.face_source.tolist()
+
+
+# --------------------------------------------------------------------------
+# flat regions: the rounding floor after a float64 transform
+# --------------------------------------------------------------------------
+def _tilted_panel_with_float32_sliver():
+    """A tilted 1.3 x 1.7 quad near 1000 and, on its edge 0-1, a sliver
+    whose middle corner is the edge's midpoint rounded to float32."""
+    rot = np.array([[1, 0, 0], [0, 0.8, -0.6], [0, 0.6, 0.8]]) @ \
+        np.array([[0.8, 0, -0.6], [0, 1, 0], [0.6, 0, 0.8]])
+    square = np.array([[0, 0, 0], [1.3, 0, 0], [1.3, 1.7, 0], [0, 1.7, 0], [0.65, 0, 0]])
+    v = (square @ rot.T + 1000.0).astype(np.float32).astype(np.float64)
+    return v, [[0, 4, 1], [0, 1, 2, 3]]
+
+
+def _region_faces(v, f, precision):
+    regions, _ = find_regions(v, PolygonList.from_faces(f), face_mask=np.ones(len(f), bool),
+                              flat_angle=1.0, flat_distance=None, break_edge_ids=set(),
+                              coordinate_precision=precision)
+    return sorted(r.faces for r in regions)
+
+
+def test_float32_sliver_counts_as_rounding_noise_after_a_float64_transform():
+    # the sliver's height (~1e-5) is below the float32 rounding of
+    # coordinates near 1000 (IEEE 754 spacing 2^-14 ~ 6e-5), so its normal is
+    # rounding noise and it joins the quad; after an object transform applied
+    # in float64 (what a host does with its single-precision positions) the
+    # coordinates are no longer float32 values, and only the caller can say
+    # they were: coordinate_precision="float32" keeps the sliver in the quad
+    v, f = _tilted_panel_with_float32_sliver()
+    assert _region_faces(v, f, "auto") == [[0, 1]]
+    assert _region_faces(v, f, "float64") == [[0], [1]]
+    turn = np.array([[0.8, -0.6, 0.0], [0.6, 0.8, 0.0], [0.0, 0.0, 1.0]]) * 1.37
+    moved = v @ turn.T + (0.123, 0.456, 0.789)
+    assert _region_faces(moved, f, "auto") == [[0], [1]]
+    assert _region_faces(moved, f, "float32") == [[0, 1]]
+    expect_remesh_contract(moved, f, coordinate_precision="float32")
+
+
+def test_coordinate_precision_must_be_known():
+    v, f = _tilted_panel_with_float32_sliver()
+    with pytest.raises(ValueError, match="coordinate_precision"):
+        engine.remesh_flat_regions(v, f, coordinate_precision="half")
+
+
+def test_empty_mesh_changes_nothing():
+    # no faces, no regions: an empty edit (the host passes empty meshes on;
+    # tests/test_host_adversarial.py checks the operators on them)
+    edit = engine.remesh_flat_regions(np.zeros((0, 3)), [])
+    assert not edit.changed and edit.regions == [] and len(edit.faces) == 0
