@@ -87,10 +87,11 @@ def incircle(ax, ay, bx, by, cx, cy, dx, dy):
 def orient2d_many(a, b, c):
     """Vectorised exact-sign orientation for (K, 2) arrays; returns (K,) floats."""
     a, b, c = (np.asarray(v, dtype=np.float64).reshape(-1, 2) for v in (a, b, c))
-    detleft = (a[:, 0] - c[:, 0]) * (b[:, 1] - c[:, 1])
-    detright = (a[:, 1] - c[:, 1]) * (b[:, 0] - c[:, 0])
-    det = detleft - detright
-    unsure = ~(np.abs(det) > CCW_BOUND * (np.abs(detleft) + np.abs(detright)))
+    with np.errstate(over="ignore", invalid="ignore"):   # overflow: decided exactly below
+        detleft = (a[:, 0] - c[:, 0]) * (b[:, 1] - c[:, 1])
+        detright = (a[:, 1] - c[:, 1]) * (b[:, 0] - c[:, 0])
+        det = detleft - detright
+        unsure = ~(np.abs(det) > CCW_BOUND * (np.abs(detleft) + np.abs(detright)))
     for i in np.flatnonzero(unsure):
         det[i] = orient2d_exact(a[i, 0], a[i, 1], b[i, 0], b[i, 1], c[i, 0], c[i, 1])
     return det
@@ -99,17 +100,18 @@ def orient2d_many(a, b, c):
 def incircle_many(a, b, c, d):
     """Vectorised exact-sign incircle for (K, 2) arrays; returns (K,) floats."""
     a, b, c, d = (np.asarray(v, dtype=np.float64).reshape(-1, 2) for v in (a, b, c, d))
-    ad, bd, cd = a - d, b - d, c - d
-    bc1, bc2 = bd[:, 0] * cd[:, 1], cd[:, 0] * bd[:, 1]
-    ca1, ca2 = cd[:, 0] * ad[:, 1], ad[:, 0] * cd[:, 1]
-    ab1, ab2 = ad[:, 0] * bd[:, 1], bd[:, 0] * ad[:, 1]
-    alift = (ad * ad).sum(axis=1)
-    blift = (bd * bd).sum(axis=1)
-    clift = (cd * cd).sum(axis=1)
-    det = alift * (bc1 - bc2) + blift * (ca1 - ca2) + clift * (ab1 - ab2)
-    permanent = ((np.abs(bc1) + np.abs(bc2)) * alift + (np.abs(ca1) + np.abs(ca2)) * blift
-                 + (np.abs(ab1) + np.abs(ab2)) * clift)
-    unsure = ~(np.abs(det) > INCIRCLE_BOUND * permanent)
+    with np.errstate(over="ignore", invalid="ignore"):   # overflow: decided exactly below
+        ad, bd, cd = a - d, b - d, c - d
+        bc1, bc2 = bd[:, 0] * cd[:, 1], cd[:, 0] * bd[:, 1]
+        ca1, ca2 = cd[:, 0] * ad[:, 1], ad[:, 0] * cd[:, 1]
+        ab1, ab2 = ad[:, 0] * bd[:, 1], bd[:, 0] * ad[:, 1]
+        alift = (ad * ad).sum(axis=1)
+        blift = (bd * bd).sum(axis=1)
+        clift = (cd * cd).sum(axis=1)
+        det = alift * (bc1 - bc2) + blift * (ca1 - ca2) + clift * (ab1 - ab2)
+        permanent = ((np.abs(bc1) + np.abs(bc2)) * alift + (np.abs(ca1) + np.abs(ca2)) * blift
+                     + (np.abs(ab1) + np.abs(ab2)) * clift)
+        unsure = ~(np.abs(det) > INCIRCLE_BOUND * permanent)
     for i in np.flatnonzero(unsure):
         det[i] = incircle_exact(a[i, 0], a[i, 1], b[i, 0], b[i, 1],
                                 c[i, 0], c[i, 1], d[i, 0], d[i, 1])
