@@ -14,7 +14,9 @@ Methods (published; the names are theirs):
   angles", Proc. 16th ACM Symposium on Computational Geometry, 2000:
   bad triangles are processed worst first; a segment is encroached when a
   vertex lies in its diametral lens (here: sees the segment under an angle of
-  at least 180 - 2 * min_angle degrees, and never less than 90) instead of
+  at least 180 - 2 * max(min_angle, 5) degrees, and never less than 90; the
+  5-degree floor keeps size-only runs from placing points a rounding error
+  away from a segment) instead of
   its diametral circle; segments with exactly one input endpoint are split
   on concentric shells (at a power-of-two distance from that endpoint) so
   that segments meeting at a small input angle are split at matching
@@ -82,6 +84,8 @@ GUARANTEED_ANGLE = math.degrees(math.asin(1.0 / (2.0 * math.sqrt(2.0))))
 SMALL_INPUT_ANGLE = 60.0
 # without max_points the number of added points is capped at this
 DEFAULT_POINT_CAP = 2_000_000
+# smallest lens angle (degrees) used for encroachment, whatever min_angle is
+LENS_FLOOR = 5.0
 # method="auto" takes the batched path from this expected output size
 BATCHED_FROM = 20_000
 
@@ -220,9 +224,12 @@ class _Refiner(SmoothingSteps):
         # that edge: isosceles triangle with apex angle slightly above min_angle
         apex = math.radians(min(min_angle * 1.04 + 0.5, 59.0)) if min_angle > 0 else 0.0
         self.off_factor = 0.5 / math.tan(0.5 * apex) if min_angle > 0 else math.inf
-        # encroachment: the angle under which a vertex sees a segment
+        # encroachment: the angle under which a vertex sees a segment; the
+        # lens never shrinks below that of LENS_FLOOR degrees, so a size-only
+        # run (min_angle 0) still splits a segment rather than putting a
+        # point a rounding error away from it
         if encroachment == "lens":
-            enc_angle = max(90.0, 180.0 - 2.0 * min_angle)
+            enc_angle = max(90.0, 180.0 - 2.0 * max(min_angle, LENS_FLOOR))
         else:
             enc_angle = 90.0
         self.enc_cos2 = math.cos(math.radians(enc_angle)) ** 2 if enc_angle > 90.0 else 0.0

@@ -265,3 +265,20 @@ def test_empty_mesh_changes_nothing():
     # tests/test_host_adversarial.py checks the operators on them)
     edit = engine.remesh_flat_regions(np.zeros((0, 3)), [])
     assert not edit.changed and edit.regions == [] and len(edit.faces) == 0
+
+
+def test_size_only_refinement_splits_segments_instead_of_hugging_them():
+    # found by the strategy flat_meshes (a tilted unit-ish panel, size limit
+    # only, capped): the circumcenter of a right triangle is the midpoint of
+    # its hypotenuse (Thales' theorem), here an outline edge; rounded a hair
+    # inside, it used to go in as a free point (a lens of angle 0 holds
+    # nothing), making a triangle of about 1e-14 degrees and, in 3D, a vertex
+    # on an edge it does not split.  The remesh contract (no new T-junction)
+    # and a smallest angle far from zero must hold
+    v = np.array([[5.0, -3.0, 2.0],
+                  [5.402948414977843, -2.779868277618996, 1.111645003577727],
+                  [5.914853806480765, -3.0693233259919572, 2.3977898807675584],
+                  [6.317802221458607, -2.849191603610953, 1.5094348843452854]])
+    edit = expect_remesh_contract(v, [[0, 1, 3, 2]], min_angle=0.0, max_points=13,
+                                  flat_angle=0.5, max_area=0.05428993070361687)
+    assert edit.regions[0].min_angle_after > 1.0
