@@ -6,7 +6,8 @@ pieces a hair off their segments, where they can cross other pieces again,
 and so on.  Snap rounding settles this once for the whole segment set:
 
 * a *hot pixel* is the set of real points that round to one pair of doubles
-  (a small rectangle of about one ulp; its interior here) around every distinct
+  (a small rectangle of about one ulp, half-open by the ties-to-even rule,
+  so the pixels tile the plane) around every distinct
   input point and around the rounded exact crossing of every pair of
   segments that cross inside both;
 * every segment is replaced by the polyline through the centres (the doubles
@@ -108,20 +109,29 @@ def _crossing_pairs(x, y, seg):
 
 
 def _pixel(v):
-    """Exact closed interval of the reals that round to the double v."""
+    """The reals that round to the double v (round half to even), as
+    (low, high, closed): exact bounds, the midpoints to v's neighbours, and
+    whether both belong to it.  A tie goes to the neighbour with the even
+    significand, so the two bounds are both in (v even) or both out (v odd);
+    at a power of two both neighbours are odd."""
     f = Fraction(v)
-    return ((f + Fraction(math.nextafter(v, -math.inf))) / 2,
-            (f + Fraction(math.nextafter(v, math.inf))) / 2)
+    low = (f + Fraction(math.nextafter(v, -math.inf))) / 2
+    high = (f + Fraction(math.nextafter(v, math.inf))) / 2
+    return low, high, float(low) == v
 
 
 def _meets_pixel(ax, ay, bx, by, px, py):
-    """Exact: the closed segment a-b meets the open hot pixel of (px, py).
+    """Exact: the closed segment a-b meets the hot pixel of (px, py), the
+    reals that round to it.  These pixels tile the plane (half-open, ties to
+    even), as snap rounding needs: a crossing that rounds to (px, py) lies
+    in its pixel even when it is a tie, so both its segments meet it.
 
-    Open, so that a segment through a pixel corner (the diagonal of a grid
-    of doubles) does not zigzag through the pixels that only touch it there;
-    a segment along a pixel side is impossible (sides are not doubles)."""
-    x0, x1 = _pixel(px)
-    y0, y1 = _pixel(py)
+    A segment meets the open pixel, or touches its boundary only at a
+    corner: its ends are doubles, never on a side, and it cannot run along
+    a side (sides are not doubles).  A corner belongs to the pixel when
+    both its coordinates round to (px, py)."""
+    x0, x1, x_closed = _pixel(px)
+    y0, y1, y_closed = _pixel(py)
     fax, fay, fbx, fby = Fraction(ax), Fraction(ay), Fraction(bx), Fraction(by)
     if max(fax, fbx) <= x0 or min(fax, fbx) >= x1 or max(fay, fby) <= y0 or min(fay, fby) >= y1:
         return False
@@ -131,7 +141,11 @@ def _meets_pixel(ax, ay, bx, by, px, py):
         for cy in (y0, y1):
             s = dx * (cy - fay) - dy * (cx - fax)
             signs.add((s > 0) - (s < 0))
-    return 1 in signs and -1 in signs
+    if 1 in signs and -1 in signs:
+        return True
+    # the line through a-b touches the closed pixel at a corner at most; the
+    # box test above put that corner strictly between a and b
+    return 0 in signs and x_closed and y_closed
 
 
 def _hot_candidates(x, y, seg, hot):

@@ -10,6 +10,7 @@ outside source beside it.
 """
 
 import random
+from fractions import Fraction
 
 import numpy as np
 import pytest
@@ -184,3 +185,81 @@ def test_fragments_between_pixels_of_different_sizes(last):
     pts = np.array(_LINE[:13] + [last] + _LINE[14:])
     segs = np.array([(0, 6), (0, 13), (2, 7)])
     expect_triangulate_contract(pts, segs, fill="hull", strict=False)
+
+
+# --------------------------------------------------------------------------
+# a crossing exactly halfway between doubles in both coordinates: it lies on
+# a pixel corner, and rounding (IEEE 754, round half to even) gives it to one
+# pixel, which both of its segments must then pass through
+# --------------------------------------------------------------------------
+def test_crossing_on_a_pixel_corner_at_unit_scale():
+    # y = x and x + y = 2 + 2^-52 cross at (1 + 2^-53, 1 + 2^-53) (exact,
+    # fractions below): halfway between the doubles 1 and 1 + 2^-52 in both
+    # coordinates, so it rounds to (1, 1), the even significand (IEEE 754
+    # round half to even).  The second segment only touches the corner of
+    # that pixel.  Was a piece off its segment (independent checker).  Both
+    # segments pass through the one added point (1, 1); exact checks,
+    # Euler's formula, hull area (GEOS)
+    e = 2.0 ** -52
+    pts = np.array([(0.0, 0.0), (2.0, 2.0), (e, 2.0), (2.0, e), (2.0, 0.0), (0.0, 2.0)])
+    segs = np.array([(0, 1), (2, 3)])
+    half = Fraction(1, 2 ** 53)
+    corner = 1 + half
+    assert corner + corner == 2 + Fraction(e)           # on x + y = 2 + 2^-52
+    assert float(corner) == 1.0 and corner - 1 == (1 + 2 * half) - corner   # a tie
+    tri = expect_triangulate_contract(pts, segs, fill="hull")
+    assert tri.points[len(pts):].tolist() == [[1.0, 1.0]]
+    assert sorted(tri.segments.tolist()) == [[0, 6], [1, 6], [2, 6], [3, 6]]
+
+
+def test_snap_rounding_at_1e6_with_a_crossing_on_a_pixel_corner():
+    # found by the long segment-set fuzzing (rings of 1e-3 at 1e6, IEEE 754
+    # spacing 2^-33 there for both coordinates): segments (6, 7) and
+    # (28, 30) cross exactly on a corner of the pixel of their rounded
+    # crossing (a tie in x and in y, checked exactly below), so (6, 7) missed
+    # the pixel of its own crossing; the untangling pass then routed a piece
+    # through a far end and segment (28, 30) was left uncovered (independent
+    # checker).  Exact checks, Euler's formula, hull area (GEOS); strict=False:
+    # features an ulp apart (helpers.check_segments docstring)
+    pts = np.array(_RINGS_AT_1E6)
+    segs = np.array([(0, 28), (6, 7), (28, 30)])
+    E = H.ExactPoints(pts)
+    cx, cy = _exact_crossing(pts, (6, 7), (28, 30))
+    for c in (cx, cy):
+        assert 2 ** 19 <= c < 2 ** 20                 # doubles 2^-33 apart here (IEEE 754)
+        assert (c * 2 ** 33).denominator == 2         # an odd multiple of 2^-34: a tie
+    assert E.orient(6, 7, 28) * E.orient(6, 7, 30) < 0
+    tri = expect_triangulate_contract(pts, segs, fill="hull", strict=False)
+    rounded = [float(cx), float(cy)]
+    w = tri.points.tolist().index(rounded)
+    pieces = {tuple(s) for s in tri.segments.tolist()}
+    assert any(w in s for s in pieces), "the rounded crossing is on no piece"
+
+
+def _exact_crossing(pts, first, second):
+    """Exact crossing of the lines through two point pairs (Cramer's rule
+    in fractions)."""
+    (ax, ay), (bx, by) = (map(Fraction, pts[i]) for i in first)
+    (cx, cy), (dx, dy) = (map(Fraction, pts[i]) for i in second)
+    denom = (bx - ax) * (dy - cy) - (by - ay) * (dx - cx)
+    s = ((cx - ax) * (dy - cy) - (cy - ay) * (dx - cx)) / denom
+    return ax + s * (bx - ax), ay + s * (by - ay)
+
+
+_RINGS_AT_1E6 = [
+    [999999.984, 999999.937], [999999.937, 999999.984], [999999.937, 1000000.016],
+    [999999.94, 999999.975], [999999.94, 1000000.025], [999999.944, 999999.967],
+    [999999.944, 1000000.033], [1000000.033, 999999.944], [999999.948, 1000000.039],
+    [999999.961, 999999.948], [999999.961, 1000000.052], [999999.967, 999999.944],
+    [999999.967, 1000000.056], [1000000.052, 999999.961], [999999.975, 1000000.06],
+    [999999.935, 1000000.0], [999999.984, 1000000.063], [1000000.0, 999999.935],
+    [1000000.0, 1000000.065], [1000000.016, 999999.937], [1000000.016, 1000000.063],
+    [1000000.025, 999999.94], [1000000.025, 1000000.06], [999999.948, 999999.961],
+    [1000000.033, 1000000.056], [1000000.039, 999999.948],
+    [1000000.039, 1000000.052], [1000000.056, 1000000.033],
+    [1000000.056, 999999.967], [1000000.052, 1000000.039], [999999.975, 999999.94],
+    [1000000.06, 999999.975], [1000000.06, 1000000.025], [1000000.063, 999999.984],
+    [1000000.063, 1000000.016], [1000000.065, 1000000.0], [999999.935, 1000000.0],
+    [999999.935, 1000000.0], [999999.935, 1000000.0], [999999.935, 1000000.0],
+    [999999.9349999999, 1000000.0], [999999.9349999999, 1000000.0],
+    [999999.9349999999, 1000000.0]]
