@@ -263,3 +263,35 @@ _RINGS_AT_1E6 = [
     [999999.935, 1000000.0], [999999.935, 1000000.0], [999999.935, 1000000.0],
     [999999.9349999999, 1000000.0], [999999.9349999999, 1000000.0],
     [999999.9349999999, 1000000.0]]
+
+
+def test_nearly_collinear_points_whose_geos_hull_folds_back():
+    # found by the long segment-set fuzzing: points (x, x/3) at 1e-9 (IEEE
+    # 754 rounding: an ulp around one line) and two segments crossing at a
+    # one-ulp angle (the fuzzer's nearly parallel pair).  The engine was
+    # right; shapely/GEOS's floating-point convex hull folds back along the
+    # line (GEOS 3.14: a valid polygon, not convex), so it is no reference
+    # (hull_area_reference checks that exactly) and the exact hull
+    # (helpers.strict_hull; every point inside or on it, checked with
+    # fractions) gives the area.  Exact checks, Euler's formula;
+    # strict=False: features an ulp apart
+    pts = np.array(
+        [[1e-09, 3.333333333333333e-10], [-3.2e-08, -1.0666666666666666e-08],
+         [2e-09, 6.666666666666666e-10], [3.0000000000000004e-09, 1e-09],
+         [4e-09, 1.3333333333333333e-09], [0.0, 0.0], [5e-09, 1.666666666666667e-09],
+         [6.000000000000001e-09, 2e-09], [7.000000000000001e-09, 2.3333333333333335e-09],
+         [8e-09, 2.6666666666666666e-09], [9.000000000000001e-09, 3.0000000000000004e-09],
+         [1e-08, 3.333333333333334e-09], [1e-09, 3.3333333333333337e-10],
+         [1e-09, 3.333333333333333e-10], [1e-09, 3.333333333333333e-10],
+         [1e-09, 3.333333333333333e-10], [-3.2e-08, -3.6666666666666664e-09],
+         [1e-08, -3.666666666666667e-09], [-3.2e-08, -3.666666666666667e-09],
+         [1e-08, -3.6666666666666664e-09]])
+    segs = np.array([(16, 17), (18, 19)])
+    E = H.ExactPoints(pts)
+    hull = H.strict_hull(E, range(E.n))
+    ring = [tuple(map(Fraction, pts[i])) for i in hull]
+    assert all((bx - ax) * (py - ay) - (by - ay) * (px - ax) >= 0
+               for (ax, ay), (bx, by) in zip(ring, ring[1:] + ring[:1])
+               for px, py in (tuple(map(Fraction, p)) for p in pts.tolist()))
+    tri = expect_triangulate_contract(pts, segs, fill="hull", strict=False)
+    assert len(tri.triangles)
