@@ -263,14 +263,14 @@ def _untangle(xs, ys, rows, routes):
             return
         options = []
         for f, g in pairs:
-            best = min((_reroute_cost(xs, ys, rows, routes, owners[keys[f]], w), f, w)
+            best = min((_reroute_cost(xs, ys, rows, routes, owners[keys[f]], w), f, g, w)
                        for f, g in ((f, g), (g, f)) for w in keys[g])
             if best[0] < math.inf:
                 options.append(best)
         changed = set()
-        for _, f, w in sorted(options):
-            if f in changed:
-                continue
+        for _, f, g, w in sorted(options):
+            if f in changed or g in changed:
+                continue         # the next round checks this pair again
             changed.add(f)
             for r in owners[keys[f]]:
                 a, b = rows[r][0], rows[r][1]
