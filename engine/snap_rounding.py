@@ -6,7 +6,8 @@ pieces a hair off their segments, where they can cross other pieces again,
 and so on.  Snap rounding settles this once for the whole segment set:
 
 * a *hot pixel* is the set of real points that round to one pair of doubles
-  (a small rectangle of about one ulp; its interior here) around every distinct
+  (a small rectangle of about one ulp, half-open by the ties-to-even rule,
+  so the pixels tile the plane) around every distinct
   input point and around the rounded exact crossing of every pair of
   segments that cross inside both;
 * every segment is replaced by the polyline through the centres (the doubles
@@ -18,10 +19,11 @@ output", Computational Geometry 13(4), 1999; L. J. Guibas and D. H. Marimont,
 "Rounding arrangements dynamically", IJCGA 8(2), 1998).  The pixels of
 doubles grow with magnitude, so a fragment between a large pixel and a small
 one can still swing past a small pixel its segment missed; a last pass
-routes such a fragment through the nearer end of the fragment it crosses,
-until no two cross (checked exactly).  Every fragment vertex found by the
-pixels lies within one ulp of its segment; those of the last pass are ends
-of fragments that cross it, so they are as close in practice.
+routes one fragment of each crossing pair through an end of the other, the
+choice that stays nearest to the input segments, until no two cross
+(checked exactly).  Every fragment vertex found by the pixels lies within
+one ulp of its segment; those of the last pass are the ends its pixels just
+missed, so they are as close in practice.
 
 Decisions are exact: crossings with exact orientation signs and Fractions,
 "segment meets pixel" with exact rational pixel bounds; numpy prefilters
@@ -108,20 +110,29 @@ def _crossing_pairs(x, y, seg):
 
 
 def _pixel(v):
-    """Exact closed interval of the reals that round to the double v."""
+    """The reals that round to the double v (round half to even), as
+    (low, high, closed): exact bounds, the midpoints to v's neighbours, and
+    whether both belong to it.  A tie goes to the neighbour with the even
+    significand, so the two bounds are both in (v even) or both out (v odd);
+    at a power of two both neighbours are odd."""
     f = Fraction(v)
-    return ((f + Fraction(math.nextafter(v, -math.inf))) / 2,
-            (f + Fraction(math.nextafter(v, math.inf))) / 2)
+    low = (f + Fraction(math.nextafter(v, -math.inf))) / 2
+    high = (f + Fraction(math.nextafter(v, math.inf))) / 2
+    return low, high, float(low) == v
 
 
 def _meets_pixel(ax, ay, bx, by, px, py):
-    """Exact: the closed segment a-b meets the open hot pixel of (px, py).
+    """Exact: the closed segment a-b meets the hot pixel of (px, py), the
+    reals that round to it.  These pixels tile the plane (half-open, ties to
+    even), as snap rounding needs: a crossing that rounds to (px, py) lies
+    in its pixel even when it is a tie, so both its segments meet it.
 
-    Open, so that a segment through a pixel corner (the diagonal of a grid
-    of doubles) does not zigzag through the pixels that only touch it there;
-    a segment along a pixel side is impossible (sides are not doubles)."""
-    x0, x1 = _pixel(px)
-    y0, y1 = _pixel(py)
+    A segment meets the open pixel, or touches its boundary only at a
+    corner: its ends are doubles, never on a side, and it cannot run along
+    a side (sides are not doubles).  A corner belongs to the pixel when
+    both its coordinates round to (px, py)."""
+    x0, x1, x_closed = _pixel(px)
+    y0, y1, y_closed = _pixel(py)
     fax, fay, fbx, fby = Fraction(ax), Fraction(ay), Fraction(bx), Fraction(by)
     if max(fax, fbx) <= x0 or min(fax, fbx) >= x1 or max(fay, fby) <= y0 or min(fay, fby) >= y1:
         return False
@@ -131,7 +142,11 @@ def _meets_pixel(ax, ay, bx, by, px, py):
         for cy in (y0, y1):
             s = dx * (cy - fay) - dy * (cx - fax)
             signs.add((s > 0) - (s < 0))
-    return 1 in signs and -1 in signs
+    if 1 in signs and -1 in signs:
+        return True
+    # the line through a-b touches the closed pixel at a corner at most; the
+    # box test above put that corner strictly between a and b
+    return 0 in signs and x_closed and y_closed
 
 
 def _hot_candidates(x, y, seg, hot):
@@ -223,11 +238,17 @@ def _along(xs, ys, a, b):
 
 
 def _untangle(xs, ys, rows, routes):
-    """Route a fragment through the nearer end of a fragment it still crosses
-    until no two fragments cross (exact test).  Needed because the pixels of
+    """Route a fragment through an end of a fragment it still crosses until
+    no two fragments cross (exact test).  Needed because the pixels of
     doubles grow with magnitude: a fragment between a large pixel and a small
-    one can swing past a small pixel that its segment missed.  Every round
-    adds a vertex to a route and none is removed, so this ends."""
+    one can swing past a small pixel that its segment missed.
+
+    Either fragment of a crossing pair can take either end of the other;
+    the choice that stays nearest to the input segments is made (the end
+    that the other segment's pixels missed is a hair from it; the far ends
+    may be anywhere), and only one side of a pair changes per round, as that
+    already removes the crossing.  Every round adds a vertex to a route and
+    none is removed, so this ends."""
     for _ in range(64 * (len(rows) + 1)):
         owners = {}
         for r, route in enumerate(routes):
@@ -240,29 +261,35 @@ def _untangle(xs, ys, rows, routes):
         pairs = _crossing_pairs(x, y, frag)
         if not pairs:
             return
-        done = set()
-        changed = False
-        for f, g in pairs + [(g, f) for f, g in pairs]:
-            if f in done:
-                continue
-            u, v = keys[f]
-            for w in sorted(keys[g], key=lambda w: _distance_to_line(xs, ys, u, v, w)):
-                for r in owners[keys[f]]:
-                    a, b = rows[r][0], rows[r][1]
-                    key = _along(xs, ys, a, b)
-                    route = routes[r]
-                    if w in route or not key(a) < key(w) < key(b):
-                        continue
-                    mids = sorted(route[1:-1] + [w], key=key)
-                    routes[r] = [a] + mids + [b]
-                    changed = True
-                if changed:
-                    done.add(f)
-                    break
+        options = []
+        for f, g in pairs:
+            best = min((_reroute_cost(xs, ys, rows, routes, owners[keys[f]], w), f, g, w)
+                       for f, g in ((f, g), (g, f)) for w in keys[g])
+            if best[0] < math.inf:
+                options.append(best)
+        changed = set()
+        for _, f, g, w in sorted(options):
+            if f in changed or g in changed:
+                continue         # the next round checks this pair again
+            changed.add(f)
+            for r in owners[keys[f]]:
+                a, b = rows[r][0], rows[r][1]
+                routes[r] = [a] + sorted(routes[r][1:-1] + [w], key=_along(xs, ys, a, b)) + [b]
         if not changed:
             return           # left to the inserter's crossing fallback
 
 
-def _distance_to_line(xs, ys, u, v, w):
-    dx, dy = xs[v] - xs[u], ys[v] - ys[u]
-    return abs(dx * (ys[w] - ys[u]) - dy * (xs[w] - xs[u])) / (abs(dx) + abs(dy) or 1.0)
+def _reroute_cost(xs, ys, rows, routes, owner_rows, w):
+    """How far routing the segments `owner_rows` also through vertex w moves
+    them: the largest distance of w from one of them; inf when w is on a
+    route already or not strictly between a segment's ends."""
+    worst = 0.0
+    for r in owner_rows:
+        a, b = rows[r][0], rows[r][1]
+        key = _along(xs, ys, a, b)
+        if w in routes[r] or not key(a) < key(w) < key(b):
+            return math.inf
+        dx, dy = xs[b] - xs[a], ys[b] - ys[a]
+        cross = abs(dx * (ys[w] - ys[a]) - dy * (xs[w] - xs[a]))
+        worst = max(worst, cross / math.hypot(dx, dy))
+    return worst

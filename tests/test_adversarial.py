@@ -111,9 +111,10 @@ def hull_area_reference(points):
     """Convex hull area: the exact shoelace area of the exact hull
     (helpers.strict_hull, Andrew's monotone chain), cross-checked against
     shapely/GEOS to 1e-12 of the bounding-box area whenever GEOS returns a
-    valid polygon.  GEOS works in floating point: for nearly collinear
-    points it may return a line, or (seen at 1e-9 scale) a self-intersecting
-    'hull'; those answers are not a reference."""
+    valid convex polygon holding every point (checked exactly).  GEOS works
+    in floating point: for nearly collinear points it may return a line, or
+    (seen at 1e-9 scale) a self-intersecting 'hull' or a valid polygon that
+    folds back along the points; those answers are not a reference."""
     from shapely.geometry import MultiPoint
     pts = np.asarray(points, np.float64)
     E = H.ExactPoints(pts)
@@ -121,11 +122,26 @@ def hull_area_reference(points):
     fan = [(hull[0], hull[i], hull[i + 1]) for i in range(1, len(hull) - 1)]
     exact = float(E.twice_area(fan) / 2) if fan else 0.0
     geos = MultiPoint([tuple(p) for p in pts]).convex_hull
-    if geos.geom_type == "Polygon" and geos.is_valid:
+    if geos.geom_type == "Polygon" and geos.is_valid and _holds_all_convexly(geos, pts):
         span = np.ptp(pts, axis=0)
         assert abs(geos.area - exact) <= 1e-12 * float(span[0] * span[1]) \
             or math.isclose(geos.area, exact, rel_tol=1e-12), (geos.area, exact)
     return exact
+
+
+def _holds_all_convexly(polygon, pts):
+    """Exact (fractions): every point lies on the inner side of, or on, the
+    line of every edge of the polygon's outer ring; then the ring is convex
+    (each edge line supports it) and holds all points: a convex hull."""
+    ring = [tuple(map(Fraction, c)) for c in polygon.exterior.coords]
+    fpts = [tuple(map(Fraction, p)) for p in np.asarray(pts).tolist()]
+    twice = sum(x0 * y1 - x1 * y0 for (x0, y0), (x1, y1) in zip(ring, ring[1:]))
+    side = 1 if twice > 0 else -1
+    for (x0, y0), (x1, y1) in zip(ring, ring[1:]):
+        dx, dy = x1 - x0, y1 - y0
+        if any(side * (dx * (py - y0) - dy * (px - x0)) < 0 for px, py in fpts):
+            return False
+    return True
 
 
 def first_copies_only(points, segments):

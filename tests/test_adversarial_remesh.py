@@ -1,5 +1,5 @@
 """Adversarial cases of issue 8 for refinement and flat-region remeshing,
-once open (tests/pending_adversarial.py) and now fixed.
+found by the fuzzing and now fixed.
 
 Each input was found by the hypothesis strategies of tests/adversarial.py
 (invented data) or built from its generators; the checks are the contract

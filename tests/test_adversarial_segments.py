@@ -10,6 +10,7 @@ outside source beside it.
 """
 
 import random
+from fractions import Fraction
 
 import numpy as np
 import pytest
@@ -184,3 +185,175 @@ def test_fragments_between_pixels_of_different_sizes(last):
     pts = np.array(_LINE[:13] + [last] + _LINE[14:])
     segs = np.array([(0, 6), (0, 13), (2, 7)])
     expect_triangulate_contract(pts, segs, fill="hull", strict=False)
+
+
+# --------------------------------------------------------------------------
+# a crossing exactly halfway between doubles in both coordinates: it lies on
+# a pixel corner, and rounding (IEEE 754, round half to even) gives it to one
+# pixel, which both of its segments must then pass through
+# --------------------------------------------------------------------------
+def test_crossing_on_a_pixel_corner_at_unit_scale():
+    # y = x and x + y = 2 + 2^-52 cross at (1 + 2^-53, 1 + 2^-53) (exact,
+    # fractions below): halfway between the doubles 1 and 1 + 2^-52 in both
+    # coordinates, so it rounds to (1, 1), the even significand (IEEE 754
+    # round half to even).  The second segment only touches the corner of
+    # that pixel.  Was a piece off its segment (independent checker).  Both
+    # segments pass through the one added point (1, 1); exact checks,
+    # Euler's formula, hull area (GEOS)
+    e = 2.0 ** -52
+    pts = np.array([(0.0, 0.0), (2.0, 2.0), (e, 2.0), (2.0, e), (2.0, 0.0), (0.0, 2.0)])
+    segs = np.array([(0, 1), (2, 3)])
+    half = Fraction(1, 2 ** 53)
+    corner = 1 + half
+    assert corner + corner == 2 + Fraction(e)           # on x + y = 2 + 2^-52
+    assert float(corner) == 1.0 and corner - 1 == (1 + 2 * half) - corner   # a tie
+    tri = expect_triangulate_contract(pts, segs, fill="hull")
+    assert tri.points[len(pts):].tolist() == [[1.0, 1.0]]
+    assert sorted(tri.segments.tolist()) == [[0, 6], [1, 6], [2, 6], [3, 6]]
+
+
+def test_snap_rounding_at_1e6_with_a_crossing_on_a_pixel_corner():
+    # found by the long segment-set fuzzing (rings of 1e-3 at 1e6, IEEE 754
+    # spacing 2^-33 there for both coordinates): segments (6, 7) and
+    # (28, 30) cross exactly on a corner of the pixel of their rounded
+    # crossing (a tie in x and in y, checked exactly below), so (6, 7) missed
+    # the pixel of its own crossing; the untangling pass then routed a piece
+    # through a far end and segment (28, 30) was left uncovered (independent
+    # checker).  Exact checks, Euler's formula, hull area (GEOS); strict=False:
+    # features an ulp apart (helpers.check_segments docstring)
+    pts = np.array(_RINGS_AT_1E6)
+    segs = np.array([(0, 28), (6, 7), (28, 30)])
+    E = H.ExactPoints(pts)
+    cx, cy = _exact_crossing(pts, (6, 7), (28, 30))
+    for c in (cx, cy):
+        assert 2 ** 19 <= c < 2 ** 20                 # doubles 2^-33 apart here (IEEE 754)
+        assert (c * 2 ** 33).denominator == 2         # an odd multiple of 2^-34: a tie
+    assert E.orient(6, 7, 28) * E.orient(6, 7, 30) < 0
+    tri = expect_triangulate_contract(pts, segs, fill="hull", strict=False)
+    rounded = [float(cx), float(cy)]
+    w = tri.points.tolist().index(rounded)
+    pieces = {tuple(s) for s in tri.segments.tolist()}
+    assert any(w in s for s in pieces), "the rounded crossing is on no piece"
+
+
+def _exact_crossing(pts, first, second):
+    """Exact crossing of the lines through two point pairs (Cramer's rule
+    in fractions)."""
+    (ax, ay), (bx, by) = (map(Fraction, pts[i]) for i in first)
+    (cx, cy), (dx, dy) = (map(Fraction, pts[i]) for i in second)
+    denom = (bx - ax) * (dy - cy) - (by - ay) * (dx - cx)
+    s = ((cx - ax) * (dy - cy) - (cy - ay) * (dx - cx)) / denom
+    return ax + s * (bx - ax), ay + s * (by - ay)
+
+
+_RINGS_AT_1E6 = [
+    [999999.984, 999999.937], [999999.937, 999999.984], [999999.937, 1000000.016],
+    [999999.94, 999999.975], [999999.94, 1000000.025], [999999.944, 999999.967],
+    [999999.944, 1000000.033], [1000000.033, 999999.944], [999999.948, 1000000.039],
+    [999999.961, 999999.948], [999999.961, 1000000.052], [999999.967, 999999.944],
+    [999999.967, 1000000.056], [1000000.052, 999999.961], [999999.975, 1000000.06],
+    [999999.935, 1000000.0], [999999.984, 1000000.063], [1000000.0, 999999.935],
+    [1000000.0, 1000000.065], [1000000.016, 999999.937], [1000000.016, 1000000.063],
+    [1000000.025, 999999.94], [1000000.025, 1000000.06], [999999.948, 999999.961],
+    [1000000.033, 1000000.056], [1000000.039, 999999.948],
+    [1000000.039, 1000000.052], [1000000.056, 1000000.033],
+    [1000000.056, 999999.967], [1000000.052, 1000000.039], [999999.975, 999999.94],
+    [1000000.06, 999999.975], [1000000.06, 1000000.025], [1000000.063, 999999.984],
+    [1000000.063, 1000000.016], [1000000.065, 1000000.0], [999999.935, 1000000.0],
+    [999999.935, 1000000.0], [999999.935, 1000000.0], [999999.935, 1000000.0],
+    [999999.9349999999, 1000000.0], [999999.9349999999, 1000000.0],
+    [999999.9349999999, 1000000.0]]
+
+
+def test_nearly_collinear_points_whose_geos_hull_folds_back():
+    # found by the long segment-set fuzzing: points (x, x/3) at 1e-9 (IEEE
+    # 754 rounding: an ulp around one line) and two segments crossing at a
+    # one-ulp angle (the fuzzer's nearly parallel pair).  The engine was
+    # right; shapely/GEOS's floating-point convex hull folds back along the
+    # line (GEOS 3.14: a valid polygon, not convex), so it is no reference
+    # (hull_area_reference checks that exactly) and the exact hull
+    # (helpers.strict_hull; every point inside or on it, checked with
+    # fractions) gives the area.  Exact checks, Euler's formula;
+    # strict=False: features an ulp apart
+    pts = np.array(
+        [[1e-09, 3.333333333333333e-10], [-3.2e-08, -1.0666666666666666e-08],
+         [2e-09, 6.666666666666666e-10], [3.0000000000000004e-09, 1e-09],
+         [4e-09, 1.3333333333333333e-09], [0.0, 0.0], [5e-09, 1.666666666666667e-09],
+         [6.000000000000001e-09, 2e-09], [7.000000000000001e-09, 2.3333333333333335e-09],
+         [8e-09, 2.6666666666666666e-09], [9.000000000000001e-09, 3.0000000000000004e-09],
+         [1e-08, 3.333333333333334e-09], [1e-09, 3.3333333333333337e-10],
+         [1e-09, 3.333333333333333e-10], [1e-09, 3.333333333333333e-10],
+         [1e-09, 3.333333333333333e-10], [-3.2e-08, -3.6666666666666664e-09],
+         [1e-08, -3.666666666666667e-09], [-3.2e-08, -3.666666666666667e-09],
+         [1e-08, -3.6666666666666664e-09]])
+    segs = np.array([(16, 17), (18, 19)])
+    E = H.ExactPoints(pts)
+    hull = H.strict_hull(E, range(E.n))
+    ring = [tuple(map(Fraction, pts[i])) for i in hull]
+    assert all((bx - ax) * (py - ay) - (by - ay) * (px - ax) >= 0
+               for (ax, ay), (bx, by) in zip(ring, ring[1:] + ring[:1])
+               for px, py in (tuple(map(Fraction, p)) for p in pts.tolist()))
+    tri = expect_triangulate_contract(pts, segs, fill="hull", strict=False)
+    assert len(tri.triangles)
+
+
+# --------------------------------------------------------------------------
+# found by the long segment-set fuzzing: the untangling pass routed a
+# segment through a vertex far from it (the far end of a fragment it
+# crossed), while routing the other segment through the near end already
+# removed the crossing
+# --------------------------------------------------------------------------
+@pytest.mark.parametrize("pts, segs", [
+    ([
+     [1.8000000000000002e-08, 6.000000000000001e-09],
+     [3.6000000000000005e-08, 1.2000000000000002e-08], [-1.6e-08, -5.333333333333333e-09],
+     [3.2e-08, 1.0666666666666666e-08], [-3.5e-08, -1.1666666666666667e-08],
+     [-1.7e-08, -5.666666666666667e-09], [5.0000000000000004e-08, 1.666666666666667e-08],
+     [-2.1000000000000003e-08, -7.000000000000001e-09], [0.0, 0.0],
+     [-1.1000000000000001e-08, -3.666666666666667e-09], [2.9e-08, 9.666666666666667e-09],
+     [4.9e-08, 1.6333333333333334e-08], [1.8000000000000002e-08, 6.000000000000002e-09],
+     [-2e-08, -6.666666666666668e-09], [-1.5000000000000002e-08, -5e-09],
+     [1.4000000000000001e-08, 4.666666666666667e-09], [-1e-08, -3.333333333333334e-09],
+     [-1.8000000000000002e-08, -6.000000000000001e-09], [-4e-09, -1.3333333333333333e-09],
+     [-3.2e-08, -1.0666666666666666e-08], [-3.0000000000000004e-08, -1e-08],
+     [-3.5e-08, 2.500000000000001e-09], [5.0000000000000004e-08, 2.500000000000002e-09],
+     [-3.5e-08, 2.500000000000002e-09], [5.0000000000000004e-08, 2.500000000000001e-09]],
+     [(21, 22), (23, 24), (0, 3), (2, 10), (8, 24)]),
+    ([
+     [-5000000000.0, -1666666666.6666667], [7000000000.0, 2333333333.3333335],
+     [-12000000000.0, -4000000000.0], [1000000000.0, 333333333.3333333], [0.0, 0.0],
+     [-1000000000.0, -333333333.3333333], [2000000000.0, 666666666.6666666],
+     [3000000000.0, 1000000000.0], [18000000000.0, 6000000000.0],
+     [4000000000.0, 1333333333.3333333], [6000000000.0, 2000000000.0],
+     [5000000000.0, 1666666666.6666667], [8000000000.0, 2666666666.6666665],
+     [9000000000.0, 3000000000.0], [10000000000.0, 3333333333.3333335],
+     [11000000000.0, 3666666666.6666665], [12000000000.0, 4000000000.0],
+     [13000000000.0, 4333333333.333333], [14000000000.0, 4666666666.666667],
+     [15000000000.0, 5000000000.0], [1000000000.0, 333333333.3333334],
+     [-12000000000.0, 1000000000.0], [18000000000.0, 1000000000.0000001],
+     [-12000000000.0, 1000000000.0000001], [18000000000.0, 1000000000.0]],
+     [(21, 22), (23, 24), (1, 2), (5, 22)]),
+    ([
+     [-5000000000.0, -1666666666.6666667], [6000000000.0, 2000000000.0],
+     [-13000000000.0, -4333333333.333333], [1000000000.0, 333333333.3333333], [0.0, 0.0],
+     [-1000000000.0, -333333333.3333333], [2000000000.0, 666666666.6666666],
+     [3000000000.0, 1000000000.0], [4000000000.0, 1333333333.3333333],
+     [5000000000.0, 1666666666.6666667], [7000000000.0, 2333333333.3333335],
+     [8000000000.0, 2666666666.6666665], [21000000000.0, 7000000000.0],
+     [9000000000.0, 3000000000.0], [12000000000.0, 4000000000.0],
+     [10000000000.0, 3333333333.3333335], [11000000000.0, 3666666666.6666665],
+     [13000000000.0, 4333333333.333333], [14000000000.0, 4666666666.666667],
+     [15000000000.0, 5000000000.0], [1000000000.0, 333333333.3333334],
+     [-13000000000.0, 1333333333.333333], [21000000000.0, 1333333333.3333333],
+     [-13000000000.0, 1333333333.3333333], [21000000000.0, 1333333333.333333]],
+     [(21, 22), (23, 24), (1, 2), (5, 22)]),
+], ids=['line_1e-9', 'line_1e9_uncovered', 'line_1e9_off_segment'])
+def test_untangling_keeps_pieces_near_their_segments(pts, segs):
+    # points (x, x/3) at 1e-9 and 1e9 (IEEE 754 rounding: an ulp around one
+    # line; near 0 the pixels of doubles are far smaller than elsewhere) with
+    # the fuzzer's nearly parallel pair, a segment along the line and one
+    # across it.  Were a constrained-looking edge left unconstrained, an
+    # uncovered segment and a piece off its segment (independent checker).
+    # Exact checks, Euler's formula, hull area (GEOS); strict=False:
+    # features an ulp apart (helpers.check_segments docstring)
+    expect_triangulate_contract(np.array(pts), np.array(segs), fill="hull", strict=False)
