@@ -452,6 +452,8 @@ def check_segments(tri, points_in, segments_in, E=None, em=None, cover="all", st
     (Kettner et al. 2008 grids), where "within the tolerance" cannot tell
     segments apart: the path conditions are replaced by plain coverage (a
     chain of pieces near s joins its ends) and the exact split condition.
+    The same holds for one segment s whose pieces meet an input point near
+    s but not on it (with crossings only; see above).
     """
     if E is None:
         E = ExactPoints(tri.points)
@@ -538,7 +540,11 @@ def check_segments(tri, points_in, segments_in, E=None, em=None, cover="all", st
             if t != s:
                 es |= {e for e in by_source[t] if near(s, e[0]) and near(s, e[1])}
         vs = {v for e in es for v in e}
-        if not strict:
+        # an input point near s but not on it (possible only with crossings):
+        # the tolerance cannot tell whether the pieces at it follow s or
+        # leave it, so s gets the rules of strict=False
+        unclear = any(v < N and not exact_on(s, v) for v in vs)
+        if not strict or unclear:
             if cover != "all":
                 continue
             adj = defaultdict(set)

@@ -402,3 +402,22 @@ def test_checker_rejects_a_piece_through_an_input_point_off_the_segment():
                         merged_into=np.arange(5))
     with pytest.raises(AssertionError, match="is not on input segment 0"):
         H.check_segments(tri, pts, np.array([(0, 1)]))
+
+
+def test_segment_leaving_an_end_at_a_tiny_angle_with_a_crossing_elsewhere():
+    # found by the long segment-set fuzzing: as above, point 6 is 2.1e-35
+    # above segment (0, 9) (exact orientation), and segment (1, 2) crosses
+    # (0, 9) at (0.5, 0), a double (IEEE 754), so snap rounding runs; the
+    # hot pixel of point 6 is far smaller than its distance to (0, 9)
+    # (IEEE 754 spacing near 2.1e-35), so (0, 9) does not pass through it.
+    # Exact checks, Euler's formula, hull area (GEOS); the crossing is the
+    # one added point
+    pts = np.array([[0.0, 0.0], [1.0, 1.0], [0.0, -1.0], [0.0, 0.0], [0.0, 0.0], [0.0, 0.0],
+                    [0.25, 2.1018996115336126e-35], [0.0, 0.0], [0.0, 0.0], [1.0, 0.0],
+                    [0.0, 0.0], [0.0, 0.0], [1.0, 1.0], [1.0, 1.0], [1.0, 1.0]])
+    segs = np.array([(0, 6), (0, 9), (1, 2)])
+    E = H.ExactPoints(pts)
+    assert E.orient(0, 9, 6) > 0
+    tri = expect_triangulate_contract(pts, segs, fill="hull")
+    assert tri.points[len(pts):].tolist() == [[0.5, 0.0]]
+    assert [0, 6] in tri.segments.tolist()
