@@ -415,6 +415,17 @@ def _near_segment(P, a, b, p, tol=ADDED_POINT_REL_TOL):
     return math.hypot(*(Q - closest)) <= tol * scale
 
 
+def _segments_cross(E, ends):
+    """Exact: two of the segments (vertex pairs) cross at one interior point."""
+    segs = [(a, b) for a, b in ends if a != b]
+    for i, (a, b) in enumerate(segs):
+        for c, d in segs[i + 1:]:
+            if (sign(E.orient(a, b, c)) * sign(E.orient(a, b, d)) < 0
+                    and sign(E.orient(c, d, a)) * sign(E.orient(c, d, b)) < 0):
+                return True
+    return False
+
+
 def check_segments(tri, points_in, segments_in, E=None, em=None, cover="all", strict=True):
     """Constrained edges against the input segments.
 
@@ -422,7 +433,9 @@ def check_segments(tri, points_in, segments_in, E=None, em=None, cover="all", st
       on the input segment named by its segment_source, within the 1e-9
       relative tolerance (a piece ending at a rounded crossing runs a hair
       off the segment, and an input point exactly on such a piece must
-      split it, so it may sit a hair off the segment too);
+      split it, so it may sit a hair off the segment too).  Input points get
+      the tolerance only when two input segments cross (exact test): without
+      a crossing nothing is rounded, so they must lie exactly on it;
     * every triangle edge joining two input points exactly on an input
       segment is constrained (when the segment's pieces are exact);
     * the pieces of input segment s - those whose source is s, plus pieces
@@ -439,6 +452,8 @@ def check_segments(tri, points_in, segments_in, E=None, em=None, cover="all", st
     (Kettner et al. 2008 grids), where "within the tolerance" cannot tell
     segments apart: the path conditions are replaced by plain coverage (a
     chain of pieces near s joins its ends) and the exact split condition.
+    The same holds for one segment s whose pieces meet an input point near
+    s but not on it (with crossings only; see above).
     """
     if E is None:
         E = ExactPoints(tri.points)
@@ -468,9 +483,23 @@ def check_segments(tri, points_in, segments_in, E=None, em=None, cover="all", st
         a, b = ends[s]
         return E.on_closed_segment(a, b, v)
 
+    crossing = []        # computed on first need: do two input segments cross?
+
+    def snapped():
+        if not crossing:
+            crossing.append(_segments_cross(E, ends))
+        return crossing[0]
+
     def near(s, v):
+        """v on s: exactly, or an added point within the tolerance, or (only
+        when input segments cross, so that pieces are snap-rounded) an input
+        point within the tolerance.  Without a crossing the result is the
+        exact CDT, and the tolerance would take a segment leaving s at a tiny
+        angle from its end for one along s."""
         a, b = ends[s]
-        return exact_on(s, v) or _near_segment(P, a, b, v)
+        if exact_on(s, v):
+            return True
+        return (v >= N or snapped()) and _near_segment(P, a, b, v)
 
     for (u, w), s in zip(S.tolist(), src.tolist()):
         assert near(s, u) and near(s, w), \
@@ -486,9 +515,9 @@ def check_segments(tri, points_in, segments_in, E=None, em=None, cover="all", st
         # only where the pieces of s (its own and those of other segments
         # lying along it, as defined above) are exactly on it: a piece
         # through a rounded crossing may leave a sliver next to the exact line
-        along = [e for t in by_source for e in by_source[t]
-                 if t == s or (near(s, e[0]) and near(s, e[1]))]
-        if not all(exact_on(s, v) for e in along for v in e):
+        on_s = [e for t in by_source for e in by_source[t]
+                if t == s or (near(s, e[0]) and near(s, e[1]))]
+        if not all(exact_on(s, v) for e in on_s for v in e):
             continue
         xs = sorted((P[a, 0], P[b, 0]))
         ys = sorted((P[a, 1], P[b, 1]))
@@ -511,7 +540,11 @@ def check_segments(tri, points_in, segments_in, E=None, em=None, cover="all", st
             if t != s:
                 es |= {e for e in by_source[t] if near(s, e[0]) and near(s, e[1])}
         vs = {v for e in es for v in e}
-        if not strict:
+        # an input point near s but not on it (possible only with crossings):
+        # the tolerance cannot tell whether the pieces at it follow s or
+        # leave it, so s gets the rules of strict=False
+        unclear = any(v < N and not exact_on(s, v) for v in vs)
+        if not strict or unclear:
             if cover != "all":
                 continue
             adj = defaultdict(set)

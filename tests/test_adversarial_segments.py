@@ -357,3 +357,67 @@ def test_untangling_keeps_pieces_near_their_segments(pts, segs):
     # Exact checks, Euler's formula, hull area (GEOS); strict=False:
     # features an ulp apart (helpers.check_segments docstring)
     expect_triangulate_contract(np.array(pts), np.array(segs), fill="hull", strict=False)
+
+
+# --------------------------------------------------------------------------
+# found by the long segment-set fuzzing: no crossing at all, and a segment
+# leaving another's end at an angle of 2e-12; the independent checker took
+# it for a piece along the other (its 1e-9 tolerance is for rounded points)
+# --------------------------------------------------------------------------
+@pytest.mark.parametrize("segs", [[(0, 1), (0, 3)], [(0, 1), (0, 3), (1, 3)]],
+                         ids=["two", "triangle"])
+def test_segment_leaving_an_end_at_a_tiny_angle(segs):
+    # point 1 is 1e-12 above segment (0, 3), not on it (exact orientation,
+    # helpers), and no two segments cross (exact), so the result is the
+    # exact CDT: one triangle with every segment an edge of its own (the
+    # definition of a CDT, common practice); exact checks, Euler's formula,
+    # hull area (GEOS)
+    pts = np.array([[0.0, 0.0], [0.5, 1e-12], [0.0, 0.0], [1.0, 0.0]])
+    E = H.ExactPoints(pts)
+    assert E.orient(0, 3, 1) > 0
+    tri = expect_triangulate_contract(pts, np.array(segs), fill="hull")
+    assert sorted(tri.segments.tolist()) == sorted([sorted(s) for s in segs])
+    assert tri.stats["added_points"] == 0
+
+
+def test_checker_rejects_a_piece_through_an_input_point_off_the_segment():
+    # a hand-made result without any crossing: input segment A-B is covered
+    # by A-C-B, and input point C lies 1e-12 above A-B (exact orientation).
+    # Nothing is rounded without a crossing, so a piece must lie exactly on
+    # its segment (CDT definition, common practice): the independent checker
+    # must report it (it took C as on A-B within its 1e-9 tolerance before)
+    pts = np.array([(0.0, 0.0), (1.0, 0.0), (0.5, 1e-12), (0.5, -1.0), (0.5, 1.0)])
+    tris = np.array([(0, 2, 4), (2, 1, 4), (0, 3, 2), (2, 3, 1)])
+    E = H.ExactPoints(pts)
+    assert all(E.orient(*t) > 0 for t in tris.tolist())      # counter-clockwise, exactly
+    assert E.orient(0, 1, 2) > 0                              # C is off A-B
+    em = H.edge_map(tris)
+    nb = np.full((len(tris), 3), -1, np.int64)
+    for t, tri_v in enumerate(tris.tolist()):
+        for k in range(3):
+            u, v = tri_v[(k + 1) % 3], tri_v[(k + 2) % 3]
+            nb[t, k] = next((s for s, _ in em[(min(u, v), max(u, v))] if s != t), -1)
+    tri = Triangulation(points=pts, triangles=tris, neighbors=nb,
+                        segments=np.array([(0, 2), (1, 2)]), segment_source=np.array([0, 0]),
+                        merged_into=np.arange(5))
+    with pytest.raises(AssertionError, match="is not on input segment 0"):
+        H.check_segments(tri, pts, np.array([(0, 1)]))
+
+
+def test_segment_leaving_an_end_at_a_tiny_angle_with_a_crossing_elsewhere():
+    # found by the long segment-set fuzzing: as above, point 6 is 2.1e-35
+    # above segment (0, 9) (exact orientation), and segment (1, 2) crosses
+    # (0, 9) at (0.5, 0), a double (IEEE 754), so snap rounding runs; the
+    # hot pixel of point 6 is far smaller than its distance to (0, 9)
+    # (IEEE 754 spacing near 2.1e-35), so (0, 9) does not pass through it.
+    # Exact checks, Euler's formula, hull area (GEOS); the crossing is the
+    # one added point
+    pts = np.array([[0.0, 0.0], [1.0, 1.0], [0.0, -1.0], [0.0, 0.0], [0.0, 0.0], [0.0, 0.0],
+                    [0.25, 2.1018996115336126e-35], [0.0, 0.0], [0.0, 0.0], [1.0, 0.0],
+                    [0.0, 0.0], [0.0, 0.0], [1.0, 1.0], [1.0, 1.0], [1.0, 1.0]])
+    segs = np.array([(0, 6), (0, 9), (1, 2)])
+    E = H.ExactPoints(pts)
+    assert E.orient(0, 9, 6) > 0
+    tri = expect_triangulate_contract(pts, segs, fill="hull")
+    assert tri.points[len(pts):].tolist() == [[0.5, 0.0]]
+    assert [0, 6] in tri.segments.tolist()
