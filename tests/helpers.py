@@ -606,17 +606,27 @@ def check_segments(tri, points_in, segments_in, E=None, em=None, cover="all", st
             f"points {sorted(on_pts - vs)} lie exactly on {label} but do not split it"
 
 
-def check_area(tri, expected, E=None, n_input=None):
+def check_area(tri, expected, E=None, n_input=None, segments_in=None):
     """Triangle area equals the expected area (relative 1e-9).  When points
     were added (rounded crossings), each may sit up to the 1e-9 relative
     tolerance off its exact position, which can move the boundary of the
-    region by that much: allow perimeter * 1e-9 * coordinate scale too."""
+    region by that much: allow perimeter * 1e-9 * coordinate scale too.
+    The same when input segments cross (exact test, `segments_in` given):
+    their crossings may round onto input points, so pieces move without
+    any added point."""
     if E is None:
         E = ExactPoints(tri.points)
     area = float(E.twice_area(tri.triangles)) / 2.0
     abs_tol = 1e-300
     P = np.asarray(tri.points)
-    if n_input is not None and len(P) > n_input and len(P):
+    rounded = n_input is not None and len(P) > n_input
+    if (not rounded and segments_in is not None and len(P)
+            and not math.isclose(area, expected, rel_tol=AREA_REL_TOL, abs_tol=abs_tol)):
+        mi = np.asarray(tri.merged_into)
+        ends = [(int(mi[a]), int(mi[b]))
+                for a, b in np.asarray(segments_in, np.int64).reshape(-1, 2).tolist()]
+        rounded = _segments_cross(E, ends)
+    if rounded and len(P):
         span = np.ptp(P, axis=0)
         abs_tol = ADDED_POINT_REL_TOL * float(np.max(np.abs(P))) * 2 * float(span.sum())
     assert math.isclose(area, expected, rel_tol=AREA_REL_TOL, abs_tol=abs_tol), \
@@ -667,7 +677,7 @@ def check_triangulation(tri, points_in, segments_in=None, *, fill="hull",
             assert len(tri.triangles) == expect_t, \
                 f"{len(tri.triangles)} triangles, Euler's formula says {expect_t}"
     if area is not None:
-        check_area(tri, area, E, n_input=len(points_in))
+        check_area(tri, area, E, n_input=len(points_in), segments_in=segments_in)
     return E
 
 

@@ -421,3 +421,31 @@ def test_segment_leaving_an_end_at_a_tiny_angle_with_a_crossing_elsewhere():
     tri = expect_triangulate_contract(pts, segs, fill="hull")
     assert tri.points[len(pts):].tolist() == [[0.5, 0.0]]
     assert [0, 6] in tri.segments.tolist()
+
+
+def test_hole_poking_half_an_ulp_out_of_the_outline_at_1e6():
+    # found by the polygons-with-holes fuzzing: a millimetre outline at 1e6
+    # (IEEE 754 spacing 2^-33 there) with a triangular hole whose vertex is
+    # the rounded midpoint of an outline edge, half an ulp outside it (exact
+    # orientation), so the hole's edges cross the outline.  The crossings
+    # round onto that vertex: snap rounding moves the outline without adding
+    # a point.  Area = shapely/GEOS fill-rule area (helpers.fill_rule_area)
+    # within the rounding allowance of helpers.check_area; exact checks;
+    # strict=False: features an ulp apart
+    loops = [[(1000000.005, 1000000.0), (1000000.0042062677, 1000000.002703204),
+              (1000000.0020770751, 1000000.00454816), (999999.9992884258, 1000000.0049491072),
+              (999999.9967256964, 1000000.0037787479), (999999.9952025352, 1000000.0014086628),
+              (999999.9952025352, 999999.9985913372), (999999.9967256964, 999999.9962212521),
+              (999999.9992884258, 999999.9950508928), (1000000.0020770751, 999999.99545184),
+              (1000000.0067164508, 999999.9980278721)],
+             [(1000000.0046031339, 1000000.001351602), (1000000.0020015669, 1000000.0006758011),
+              (1000000.0023015669, 1000000.000375801)],
+             [(1000000.0043967629, 999999.9967398561), (1000000.0018983815, 999999.998369928),
+              (1000000.0021983815, 999999.998069928)]]
+    pts, segs = H.loops_to_input(loops)
+    E = H.ExactPoints(pts)
+    assert E.orient(0, 1, 11) < 0          # hole vertex 11 right of outline edge 0-1: outside
+    for fill in ("even-odd", "nonzero"):
+        tri = expect_valid_triangulation(pts, segs, fill=fill, area=H.fill_rule_area(loops, fill),
+                                         cover="kept", strict=False)
+        assert len(tri.points) == len(pts)
