@@ -201,6 +201,12 @@ class _EditBuilder:
         self.face_areas = None
         self.straighten = float(straighten)
         self.faces_using_vertex = np.bincount(polys.corners, minlength=self.n)
+        # per edge, how many faces run along it lo -> hi and hi -> lo
+        forward = edges.forward.astype(np.int64)
+        self.edge_forward = np.bincount(edges.edge_of_corner, weights=forward,
+                                        minlength=len(edges)).astype(np.int64)
+        self.edge_backward = np.bincount(edges.edge_of_corner, weights=1 - forward,
+                                         minlength=len(edges)).astype(np.int64)
         self.vstore = VertexStore(self.n)   # the new vertices with their weights
         self.on_edge = {}            # new vertex -> (edge id, t from lo to hi)
         self.edge_splits = {}        # edge id -> [(t, new vertex)]
@@ -292,6 +298,14 @@ class _EditBuilder:
             *zip(*(border + inner)), nxt[corners[np.concatenate((on_border, inside))]].tolist())}
         if not border:
             raise RegionSkipped("the region has no border (a closed flat surface)")
+        border_corners = corners[on_border]
+        border_edges = edge_ids[on_border]
+        same_way = np.where(edges.forward[border_corners], self.edge_forward[border_edges],
+                            self.edge_backward[border_edges])
+        if (same_way > 1).any() and self._overlapped(border_corners[same_way > 1],
+                                                     set(faces), region.normal):
+            raise RegionSkipped("overlapping faces: another face lies over its outline "
+                                "(the same edge, the same direction, the same side)")
         region_v, uses = np.unique(cv[corners], return_counts=True)
         region_vertices = set(region_v.tolist())
         border_vertices = {u for u, _, _, _ in border} | {v for _, v, _, _ in border}
@@ -377,6 +391,30 @@ class _EditBuilder:
             added_points=int(len(refined.points) - len(point_ids)),
             complete=bool(refined.complete),
             reason=refined.stop_reason)
+
+    def _overlapped(self, border_corners, region_faces, normal):
+        """True when a face outside the region runs along one of these
+        outline corners' edges in the same direction, nearly in the region's
+        plane (within 10 degrees), and on the region's side of the edge: two
+        sheets lying on each other.  (A coplanar face with flipped
+        orientation runs the same way but lies on the other side.)"""
+        edges, cv, nxt = self.edges, self.polys.corners, self.next_of
+        n = np.asarray(normal, dtype=np.float64)
+        n = n / np.linalg.norm(n)
+        v = self.verts
+        for c in border_corners.tolist():
+            e = int(edges.edge_of_corner[c])
+            u, w = v[cv[c]], v[cv[nxt[c]]]
+            for c2 in edges.corners_of(e).tolist():
+                g = int(edges.face_of_corner[c2])
+                if g in region_faces or edges.forward[c2] != edges.forward[c]:
+                    continue
+                apex = v[cv[nxt[nxt[c2]]]]        # the vertex after the edge in face g
+                side = float(np.cross(w - u, apex - u) @ n)
+                span = float(np.linalg.norm(np.cross(w - u, apex - u)))
+                if side > 0.9848 * span:           # cos 10 degrees
+                    return True
+        return False
 
     def _new_vertices(self, refined, point_ids, segment_edge, proj, face_tris,
                       face_tri_corners):

@@ -282,3 +282,34 @@ def test_size_only_refinement_splits_segments_instead_of_hugging_them():
     edit = expect_remesh_contract(v, [[0, 1, 3, 2]], min_angle=0.0, max_points=13,
                                   flat_angle=0.5, max_area=0.05428993070361687)
     assert edit.regions[0].min_angle_after > 1.0
+
+
+# --------------------------------------------------------------------------
+# overlapping sheets and flipped neighbours
+# --------------------------------------------------------------------------
+def test_overlapping_faces_are_left_alone():
+    # found by the strategy flat_meshes ("dup" then "collinear_corner"): a
+    # unit square listed twice, once with a collinear corner at the middle of
+    # its lower edge.  The two faces lie on each other (each edge they share
+    # is used twice in the same direction, and they are on the same side of
+    # it), so neither can be remeshed without one sheet meeting the other's
+    # new points; both are skipped with the reason, and the contract holds
+    v = np.array([[0.0, 0, 0], [1, 0, 0], [0, 1, 0], [1, 1, 0], [0.5, 0, 0]])
+    f = [[0, 4, 1, 3, 2], [0, 1, 3, 2]]
+    edit = expect_remesh_contract(v, f, min_angle=0.0, max_points=2, flat_angle=0.5,
+                                  max_area=0.125)
+    assert [r.status for r in edit.regions] == ["skipped", "skipped"]
+    assert all("overlapping" in r.reason for r in edit.regions)
+
+
+def test_flipped_coplanar_neighbour_is_not_an_overlap():
+    # a 3 x 3 panel whose middle quad is listed with the opposite winding
+    # (a common fault of imported meshes): its edges run the same way as the
+    # neighbours' but it lies beside them, not over them, so the rest of the
+    # panel is still remeshed (regions never cross the orientation change)
+    v, f = A.grid_panel(3, 3)
+    f = [list(x) for x in f]
+    f[4] = f[4][::-1]
+    edit = expect_remesh_contract(v, f, min_angle=30.0, max_area=0.05)
+    changed = [r for r in edit.regions if r.status == "changed"]
+    assert changed and all("overlapping" not in r.reason for r in edit.regions)
