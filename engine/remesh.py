@@ -380,7 +380,7 @@ class _EditBuilder:
         for keys in segment_edge:
             keys_here.update(keys)
         self.region_keys.append(keys_here)
-        self.split_counts.append({k: len(self.edge_splits.get(k, ())) for k in keys_here})
+        self.split_counts.append({k: self._split_total(k) for k in keys_here})
         self.dropped.update(interior.difference(kept_interior))
         self.dropped.update(dropping)
         after = quality(refined.points, refined.triangles)
@@ -635,11 +635,13 @@ class _EditBuilder:
                 for k, c in count.items() if c >= 2}
 
     def _split_chain(self, u, v, e):
-        """u, (points added on edge e by earlier regions, in order), v."""
+        """u, (points added on edge e by earlier regions, in order), v.  An
+        original edge also takes the points of a straightened neighbour's
+        chord lying along it (same ends)."""
         if e in self.presplit and e not in self.edge_splits:
             for t in self.presplit[e]:
                 self._add_edge_point(e, t)
-        splits = self.edge_splits.get(e)
+        splits = self._points_on(e)
         if not splits:
             return [u, v]
         lo = self._ends(e)[0]
@@ -714,7 +716,7 @@ class _EditBuilder:
         # of its edges further
         changed = [i for i, report in enumerate(self.reports) if report.status == "changed"]
         for (rid, block), counts in zip(self.region_blocks, self.split_counts):
-            stale = any(len(self.edge_splits.get(key, ())) != k for key, k in counts.items())
+            stale = any(self._split_total(key) != k for key, k in counts.items())
             if not stale:
                 out.add_block(block, rid)
                 continue
@@ -751,6 +753,24 @@ class _EditBuilder:
             corner_weight_starts=cs_, corner_weight_indices=ci, corner_weight_values=cw,
             dropped_vertices=dropped,
             regions=sorted(self.reports, key=lambda r: r.region))
+
+    def _split_total(self, key):
+        return len(self._points_on(key))
+
+    def _points_on(self, key):
+        """[(t, vertex)] added on an outline key so far.  An original edge and
+        a chord between the same two vertices (a straightened run of a
+        neighbouring region lying along that edge) are one line: each
+        carries the other's points too."""
+        points = list(self.edge_splits.get(key, ()))
+        lo, hi = self._ends(key)
+        if isinstance(key, tuple):
+            twin = self.edges.lookup(lo, hi)
+            if twin >= 0:
+                points += self.edge_splits.get(twin, ())
+        else:
+            points += self.edge_splits.get(("chord", lo, hi), ())
+        return points
 
     def _param(self, x, e):
         lo, hi = self._ends(e)
@@ -791,8 +811,8 @@ class _EditBuilder:
             ta, tb = self._param(a, e), self._param(b, e)
             if ta is None or tb is None:
                 continue
-            inside = [(t, vid) for t, vid in self.edge_splits[e]
-                      if min(ta, tb) < t < max(ta, tb)]
+            points = self._points_on(e)
+            inside = sorted({(t, vid) for t, vid in points if min(ta, tb) < t < max(ta, tb)})
             inside.sort(reverse=bool(ta > tb))
             for t, vid in inside:
                 s = (t - ta) / (tb - ta)

@@ -313,3 +313,18 @@ def test_flipped_coplanar_neighbour_is_not_an_overlap():
     edit = expect_remesh_contract(v, f, min_angle=30.0, max_area=0.05)
     changed = [r for r in edit.regions if r.status == "changed"]
     assert changed and all("overlapping" not in r.reason for r in edit.regions)
+
+
+def test_straightened_run_along_a_fin_edge_shares_its_points():
+    # found by the strategy flat_meshes ("fin" then "collinear_corner"): a
+    # unit panel whose lower edge carries a collinear corner at its middle,
+    # and a fin standing on the whole lower edge (an input T-junction).
+    # Straightening drops the middle corner, so the panel's outline there is
+    # a chord between the same two vertices as the fin's edge: points either
+    # side puts on that line must be carried by both (watertight rule of
+    # the remesh contract)
+    v = np.array([[0.0, 0, 0], [1, 0, 0], [0, 1, 0], [1, 1, 0], [0, 0, 1], [1, 0, 1],
+                  [0.5, 0, 0]])
+    f = [[0, 6, 1, 3, 2], [1, 0, 4, 5]]
+    expect_remesh_contract(v, f, min_angle=0.0, max_points=3, flat_angle=0.5,
+                           max_area=0.1875, straighten_tolerance=1.7320508075688771e-06)
