@@ -150,11 +150,17 @@ def check_editable(data, world):
     a non-finite position, or a face listing a vertex more than once (bmesh's edge
     cycles break on such faces; the host's own ``Mesh.validate`` removes them)."""
     check_finite(world)
-    totals = np.asarray(data.loop_totals, dtype=np.int64)
+    check_faces_distinct(data.loop_totals, data.corner_verts, data.vertex_count)
+
+
+def check_faces_distinct(loop_totals, corner_verts, vertex_count):
+    """ValueError when a face lists a vertex more than once (bmesh cannot take it:
+    some hosts hang selecting such a face)."""
+    totals = np.asarray(loop_totals, dtype=np.int64)
     face_of = np.repeat(np.arange(len(totals)), totals)
-    keys = face_of * (data.vertex_count + 1) + np.asarray(data.corner_verts, dtype=np.int64)
+    keys = face_of * (vertex_count + 1) + np.asarray(corner_verts, dtype=np.int64)
     uniq, counts = np.unique(keys, return_counts=True)
-    repeated = np.unique(uniq[counts > 1] // (data.vertex_count + 1))
+    repeated = np.unique(uniq[counts > 1] // (vertex_count + 1))
     if len(repeated):
         raise ValueError(f"{len(repeated)} face(s) use a vertex more than once, e.g. face "
                          f"{int(repeated[0])} (clean the mesh up first)")

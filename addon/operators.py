@@ -87,9 +87,11 @@ select mode so exactly those faces are selected)"""
         for ob in objects:
             ob.update_from_editmode()  # the bulk arrays must see the edit mesh
             arrays.append(read_mesh_arrays(ob.data))
+            positions, _starts, totals, corner_verts, _hidden = arrays[-1]
             try:
-                jobs.check_finite(arrays[-1][0])
-            except ValueError as exc:   # no angle to measure: refuse, change nothing
+                jobs.check_finite(positions)   # no angle to measure
+                jobs.check_faces_distinct(totals, corner_verts, len(positions))
+            except ValueError as exc:   # refuse, change nothing
                 self.report({'WARNING'}, f"{self.bl_label}: nothing changed ({ob.name}: {exc})")
                 return {'CANCELLED'}
         context.tool_settings.mesh_select_mode = (False, False, True)

@@ -282,7 +282,8 @@ def test_non_finite_positions_are_refused_by_every_operator(cases, mesh):
 
 @pytest.mark.parametrize("mesh", ["repeated_vertex", "hole_touching"])
 def test_faces_repeating_a_vertex_are_refused_before_any_edit(cases, mesh):
-    for op in ("object_remesh", "edit_remesh", "flip"):
+    # (bpy 4.2 hangs deselecting such a face through bmesh: select_thin refuses too)
+    for op in ("object_remesh", "edit_remesh", "flip", "select_thin"):
         case = cases[f"{mesh}/{op}"]
         assert case["result"] == ["CANCELLED"]
         assert "use a vertex more than once" in case["reports"][0]

@@ -485,13 +485,28 @@ def run_case(name, op):
 
 
 def validate_changes(ob):
-    """Whether the host's own Mesh.validate would fix anything (on a copy).  The copy's
-    positions are written once first: Blender 5.0.1's validate zeroes NaN positions in
-    place, and a fresh copy still shares its position array with the original."""
-    copy = ob.data.copy()
-    co = _get(copy.vertices, "co", np.float32, 3)
-    if len(co):
-        copy.vertices.foreach_set("co", co.ravel())
+    """Whether the host's own Mesh.validate would fix anything in the geometry, run on
+    a new mesh built from the positions, edges and faces.  (Not on ``Mesh.copy()``: a
+    fresh copy shares its arrays with the original, and the host's validate edits them
+    in place - Blender 5.0.1 zeroes NaN positions, 4.2 rewrites the corners of faces
+    that repeat a vertex - so the original would change.)"""
+    mesh = ob.data
+    co = _get(mesh.vertices, "co", np.float32, 3)
+    edges = _get(mesh.edges, "vertices", np.int32, 2)
+    starts = _get(mesh.polygons, "loop_start", np.int32)
+    totals = _get(mesh.polygons, "loop_total", np.int32)
+    corners = _get(mesh.loops, "vertex_index", np.int32)
+    corner_edges = _get(mesh.loops, "edge_index", np.int32)
+    copy = bpy.data.meshes.new(mesh.name + "_validate")
+    copy.vertices.add(len(co))
+    copy.vertices.foreach_set("co", co.ravel())
+    copy.edges.add(len(edges))
+    copy.edges.foreach_set("vertices", edges.ravel())
+    copy.loops.add(len(corners))
+    copy.loops.foreach_set("vertex_index", corners)
+    copy.loops.foreach_set("edge_index", corner_edges)
+    copy.polygons.add(len(starts))
+    copy.polygons.foreach_set("loop_start", starts)      # sizes follow from the starts
     with Captured():
         changed = bool(copy.validate(verbose=False))
     bpy.data.meshes.remove(copy)
