@@ -49,22 +49,27 @@ def _pairs_by_x(lo_x, hi_x):
     start = np.arange(1, len(order) + 1)
     counts = np.maximum(end - start, 0)
     out_i, out_j = [], []
+    for rows, offs in _chunked_pairs(counts):
+        out_i.append(order[rows])
+        out_j.append(order[start[rows] + offs])
+    if not out_i:
+        return np.zeros(0, np.int64), np.zeros(0, np.int64)
+    return np.concatenate(out_i), np.concatenate(out_j)
+
+
+def _chunked_pairs(counts):
+    """For rows with counts[i] partners each: (row of each pair, offset of the
+    pair within its row), in chunks of about _CHUNK pairs (bounded memory)."""
     first = 0
-    while first < len(order):
-        # a chunk of rows whose pairs fit in _CHUNK entries
+    while first < len(counts):
         csum = np.cumsum(counts[first:])
         last = first + max(1, int(np.searchsorted(csum, _CHUNK, side="right")))
         c = counts[first:last]
         total = int(c.sum())
         if total:
-            rows = np.repeat(np.arange(first, last), c)
-            offs = np.arange(total) - np.repeat(np.cumsum(c) - c, c)
-            out_i.append(order[rows])
-            out_j.append(order[start[rows] + offs])
+            yield (np.repeat(np.arange(first, last), c),
+                   np.arange(total) - np.repeat(np.cumsum(c) - c, c))
         first = last
-    if not out_i:
-        return np.zeros(0, np.int64), np.zeros(0, np.int64)
-    return np.concatenate(out_i), np.concatenate(out_j)
 
 
 def _crossings(x, y, seg):
@@ -165,18 +170,8 @@ def _hot_candidates(x, y, seg, hot):
     end = np.searchsorted(sx, hi_x + pad_x, side="right")
     counts = end - begin
     out_r, out_p = [], []
-    first = 0
-    while first < len(seg):
-        csum = np.cumsum(counts[first:])
-        last = first + max(1, int(np.searchsorted(csum, _CHUNK, side="right")))
-        c = counts[first:last]
-        total = int(c.sum())
-        first_row = first
-        first = last
-        if not total:
-            continue
-        r = np.repeat(np.arange(first_row, last), c)
-        p = order[begin[r] + np.arange(total) - np.repeat(np.cumsum(c) - c, c)]
+    for r, offs in _chunked_pairs(counts):
+        p = order[begin[r] + offs]
         px, py = hx[p], hy[p]
         ok = (py >= lo_y[r] - pad_y[r]) & (py <= hi_y[r] + pad_y[r])
         r, p, px, py = r[ok], p[ok], px[ok], py[ok]

@@ -23,7 +23,8 @@ from itertools import pairwise
 import bpy
 import numpy as np
 from common import EXTENSION, install_and_enable, report
-from scene_setup import raw_arrays, repair_flag_layers, select_only
+from invented_meshes import rotation
+from scene_setup import clear_scene, raw_arrays, repair_flag_layers, select_only
 
 F32_ULP_HALF = 2.0 ** -24          # spacing of float32 values in [0.5, 1) (IEEE 754)
 OPERATORS = ("object_remesh", "edit_remesh", "flip", "select_thin")
@@ -31,15 +32,6 @@ REPORT_PREFIXES = ("Info: ", "Warning: ", "Error: ")
 
 
 # ---------------------------------------------------------------- invented meshes
-def rotation(ax, ay, az):
-    cx, sx, cy, sy, cz, sz = (math.cos(ax), math.sin(ax), math.cos(ay), math.sin(ay),
-                              math.cos(az), math.sin(az))
-    rx = np.array([[1, 0, 0], [0, cx, -sx], [0, sx, cx]])
-    ry = np.array([[cy, 0, sy], [0, 1, 0], [-sy, 0, cy]])
-    rz = np.array([[cz, -sz, 0], [sz, cz, 0], [0, 0, 1]])
-    return rz @ ry @ rx
-
-
 def grid_panel(nx, ny, size=1.0):
     """nx x ny quads in z = 0, counter-clockwise from +z; vertex (i, j) is j(nx+1)+i."""
     verts = [(i * size, j * size, 0.0) for j in range(ny + 1) for i in range(nx + 1)]
@@ -411,15 +403,6 @@ def reset_last_run():
 
 
 # ---------------------------------------------------------------- one case
-def clear_scene():
-    if bpy.context.object is not None and bpy.context.object.mode != 'OBJECT':
-        bpy.ops.object.mode_set(mode='OBJECT')
-    for ob in list(bpy.data.objects):
-        bpy.data.objects.remove(ob)
-    for me in list(bpy.data.meshes):
-        bpy.data.meshes.remove(me)
-
-
 def to_edit(ob):
     select_only([ob])
     bpy.context.tool_settings.mesh_select_mode = (False, False, True)
