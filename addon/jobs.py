@@ -173,8 +173,16 @@ def duplicate_faces(data):
     starts = np.asarray(data.loop_starts, dtype=np.int64)
     cv = np.asarray(data.corner_verts, dtype=np.int64)
     groups = {}
-    for f, (s, t) in enumerate(zip(starts.tolist(), totals.tolist())):
-        groups.setdefault(tuple(sorted(cv[s:s + t].tolist())), []).append(f)
+    if len(cv) and len(totals):
+        # only faces agreeing in size, corner sum, smallest and largest corner can be
+        # copies: compare just those corner by corner
+        key = np.column_stack((totals, np.add.reduceat(cv, starts),
+                               np.minimum.reduceat(cv, starts), np.maximum.reduceat(cv, starts)))
+        _, inverse, counts = np.unique(key, axis=0, return_inverse=True, return_counts=True)
+        candidates = np.flatnonzero(counts.reshape(-1)[inverse.reshape(-1)] > 1)
+        for f in candidates.tolist():
+            s, t = int(starts[f]), int(totals[f])
+            groups.setdefault(tuple(sorted(cv[s:s + t].tolist())), []).append(f)
     copies = [g for g in groups.values() if len(g) > 1]
     faces = np.array(sorted(f for g in copies for f in g), dtype=np.int64)
     reports = [engine.RegionReport(region=-1, faces=len(g), status="skipped",
@@ -190,9 +198,9 @@ def remesh_plan(data, world, face_mask, break_pairs, *, min_angle, max_edge_leng
 
     Refused (ValueError) when :func:`check_editable` finds a problem or when points
     would be added on the edges of duplicate faces (the copies would become one face);
-    otherwise duplicate faces are left out and reported as skipped.  Guard: a region whose result holds a
-    zero-area triangle is masked out and the engine run again without it (at most
-    twice); it is reported as skipped."""
+    otherwise duplicate faces are left out and reported as skipped.  Guard: a region
+    whose result holds a zero-area triangle is masked out and the engine run again
+    without it (at most twice); it is reported as skipped."""
     check_editable(data, world)
     breaks = np.asarray(break_pairs, dtype=np.int64).reshape(-1, 2)
     mask = np.asarray(face_mask, dtype=bool).copy()

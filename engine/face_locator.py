@@ -145,6 +145,8 @@ def _barycentric_many(corners, points):
     p = np.broadcast_to(points, a.shape)
     det = (b[:, 0] - a[:, 0]) * (c[:, 1] - a[:, 1]) - (b[:, 1] - a[:, 1]) * (c[:, 0] - a[:, 0])
     det = np.where(det == 0, 1e-300, det)
-    wb = ((p[:, 0] - a[:, 0]) * (c[:, 1] - a[:, 1]) - (p[:, 1] - a[:, 1]) * (c[:, 0] - a[:, 0])) / det
-    wc = ((b[:, 0] - a[:, 0]) * (p[:, 1] - a[:, 1]) - (b[:, 1] - a[:, 1]) * (p[:, 0] - a[:, 0])) / det
+    wb = ((p[:, 0] - a[:, 0]) * (c[:, 1] - a[:, 1])
+          - (p[:, 1] - a[:, 1]) * (c[:, 0] - a[:, 0])) / det
+    wc = ((b[:, 0] - a[:, 0]) * (p[:, 1] - a[:, 1])
+          - (b[:, 1] - a[:, 1]) * (p[:, 0] - a[:, 0])) / det
     return np.column_stack((1.0 - wb - wc, wb, wc))
