@@ -1167,10 +1167,8 @@ def refine_batched(tri, ref, smoothing=False, smoothing_passes=4):
 
 
 def _run_tail(ref, tail, cap):
-    """The sequential refiner's main loop (engine.refine._Refiner.run) started
-    from the given triangles instead of a scan of the whole mesh."""
-    import heapq
-
+    """The sequential refiner's main loop (engine.refine._Refiner.drain)
+    started from the given triangles instead of a scan of the whole mesh."""
     mesh = ref.mesh
     tv, tn, tc = mesh.tv, mesh.tn, mesh.tc
     for t, a, b, c in tail:
@@ -1180,30 +1178,4 @@ def _run_tail(ref, tail, cap):
                 corner = 3 * t + k
                 if (tc[corner] or tn[corner] < 0) and ref._edge_encroached(corner):
                     ref.segq.append((tv[3 * t + (k + 1) % 3], tv[3 * t + (k + 2) % 3]))
-    start = len(mesh.x)
-    heap, segq, big = ref.heap, ref.segq, ref.big
-    while True:
-        if len(mesh.x) - start >= cap and (segq or heap or big):
-            ref.complete = False
-            ref.stop_reason = (f"max_points reached: {cap} points added in the tail, "
-                               f"{len(heap) + len(big)} triangles and {len(segq)} "
-                               "segments still queued")
-            break
-        if segq:
-            u, v = segq.pop()
-            c = ref._edge_corner(u, v)
-            if c < 0 or not (tc[c] or tn[c] < 0):
-                continue
-            if ref._edge_encroached(c):
-                ref._split_segment(c)
-            continue
-        if heap:
-            key, t, a, b, c = heapq.heappop(heap)
-        elif big:
-            key, t, a, b, c = big.popleft()
-        else:
-            break
-        base = 3 * t
-        if tv[base] != a or tv[base + 1] != b or tv[base + 2] != c:
-            continue
-        ref._fix_triangle(t, key)
+    ref.drain(cap, where=" in the tail")

@@ -1182,18 +1182,27 @@ class _Refiner(SmoothingSteps):
         for t in range(len(mesh.mark)):
             if tv[3 * t] != DEAD:
                 self._push_if_bad(t)
-        start = self.start = len(mesh.x)
+        self.start = len(mesh.x)
+        self.drain(self.cap)
+
+    def drain(self, cap, where=""):
+        """Work the queues (encroached segments first, then skinny triangles
+        worst first, then too-large ones) until they are empty or `cap`
+        points were added by this call (`where` names the stage in the
+        stop reason)."""
+        mesh = self.mesh
+        tv, tn, tc = mesh.tv, mesh.tn, mesh.tc
+        start = len(mesh.x)
         heap, segq, big = self.heap, self.segq, self.big
-        cap = self.cap
         fix = self._fix_triangle
         heappop = heapq.heappop
         popleft = big.popleft
         while True:
             if len(mesh.x) - start >= cap and (segq or heap or big):
                 self.complete = False
-                self.stop_reason = (f"max_points reached: {len(mesh.x) - start} points added, "
-                                    f"{len(heap) + len(big)} triangles and {len(segq)} "
-                                    "segments still queued")
+                self.stop_reason = (f"max_points reached: {len(mesh.x) - start} points added"
+                                    f"{where}, {len(heap) + len(big)} triangles and "
+                                    f"{len(segq)} segments still queued")
                 break
             if segq:
                 u, v = segq.pop()
