@@ -81,7 +81,7 @@ import math
 
 import numpy as np
 
-from .bulk_delaunay import incircle_sign, orient_sign
+from .bulk_delaunay import claim_flips, incircle_sign, orient_sign
 from .mesh import DEAD
 from .triangulation import Triangulation
 
@@ -1004,18 +1004,7 @@ class _Rounds:
             if not len(bad):
                 break
             sus, oc, ca, cb, p, a, b, q = (x[bad] for x in (sus, oc, ca, cb, p, a, b, q))
-            eid = np.minimum(sus, oc)
-            t = sus // 3
-            u = oc // 3
-            np.minimum.at(claim, t, eid)
-            np.minimum.at(claim, u, eid)
-            win = (claim[t] == eid) & (claim[u] == eid)
-            claim[t] = _BIG
-            claim[u] = _BIG
-            wi = np.flatnonzero(win)
-            dedup[eid[wi]] = wi
-            wi = wi[dedup[eid[wi]] == wi]
-            lose = np.flatnonzero(~win)
+            wi, lose, t, u = claim_flips(sus, oc, claim, dedup)
             oc, ca, cb, p, a, b, q, t, u = (x[wi] for x in (oc, ca, cb, p, a, b, q, t, u))
             self.flips += len(wi)
             oc3 = oc % 3

@@ -160,6 +160,27 @@ def _incircle_settle(ax, ay, bx, by, cx, cy, dx, dy):
     return out
 
 
+def claim_flips(corner, opposite, claim, dedup):
+    """Non-conflicting flips among the edges facing `corner` (opposite
+    corners `opposite`): each edge claims its two triangles with its id (the
+    smaller corner, ``np.minimum.at``); an edge that holds both wins.  An edge
+    listed from both sides is kept once.  `claim` (per triangle, _BIG when
+    free) is left free again; `dedup` (per corner) is scratch.  Returns
+    (winner rows, loser rows, triangles of `corner`, triangles of `opposite`)."""
+    eid = np.minimum(corner, opposite)
+    t = corner // 3
+    u = opposite // 3
+    np.minimum.at(claim, t, eid)
+    np.minimum.at(claim, u, eid)
+    win = (claim[t] == eid) & (claim[u] == eid)
+    claim[t] = _BIG
+    claim[u] = _BIG
+    w = np.flatnonzero(win)
+    dedup[eid[w]] = w
+    w = w[dedup[eid[w]] == w]
+    return w, np.flatnonzero(~win), t, u
+
+
 def incircle_sign(ax, ay, bx, by, cx, cy, dx, dy):
     """Exact sign of incircle(a, b, c, d) (> 0: d strictly inside the circle
     through counter-clockwise a, b, c) for equal-length float arrays."""
@@ -528,19 +549,7 @@ class _Builder:
             if not len(bad):
                 break
             sus, oc, ca, cb, p, a, b, q = (v[bad] for v in (sus, oc, ca, cb, p, a, b, q))
-            eid = np.minimum(sus, oc)
-            t = sus // 3
-            u = oc // 3
-            np.minimum.at(claim, t, eid)
-            np.minimum.at(claim, u, eid)
-            win = (claim[t] == eid) & (claim[u] == eid)
-            claim[t] = _BIG
-            claim[u] = _BIG
-            w = np.flatnonzero(win)
-            # the same edge may be listed from both sides: keep one copy
-            dedup[eid[w]] = w
-            w = w[dedup[eid[w]] == w]
-            lose = np.flatnonzero(~win)
+            w, lose, t, u = claim_flips(sus, oc, claim, dedup)
             c, oc, ca, cb, p, a, b, q, t, u = (v[w] for v in (sus, oc, ca, cb, p, a, b, q, t, u))
             self.flips += len(w)
             oc3 = oc % 3
