@@ -37,6 +37,8 @@ import math
 import numpy as np
 from hypothesis import strategies as st
 
+from .scenes import rotation
+
 ULP_HALF = 2.0 ** -53          # spacing of doubles in [0.5, 1) (IEEE 754 binary64)
 
 
@@ -241,15 +243,6 @@ def many_points_domain():
 # ==========================================================================
 # 3D generators (vertices (N, 3) float64, faces as lists of index lists)
 # ==========================================================================
-def rotation(ax=0.3, ay=-0.5, az=0.8):
-    cx, sx, cy, sy, cz, sz = (math.cos(ax), math.sin(ax), math.cos(ay), math.sin(ay),
-                              math.cos(az), math.sin(az))
-    rx = np.array([[1, 0, 0], [0, cx, -sx], [0, sx, cx]])
-    ry = np.array([[cy, 0, sy], [0, 1, 0], [-sy, 0, cy]])
-    rz = np.array([[cz, -sz, 0], [sz, cz, 0], [0, 0, 1]])
-    return rz @ ry @ rx
-
-
 def tilt(vertices, angles=(0.3, -0.5, 0.8), shift=(5.0, -3.0, 2.0)):
     return np.asarray(vertices, np.float64) @ rotation(*angles).T + np.asarray(shift, np.float64)
 
