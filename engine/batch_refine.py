@@ -75,6 +75,13 @@ then error-free transformations, then exact integers for the few left).
 Proposals the rounds cannot handle (a cavity that is not star-shaped, a walk
 that fails) are left to the sequential refiner at the end, which then works
 on the same mesh and keeps every guarantee.
+
+The sequential refiner also starts the work (``_Refiner.run(warm_up=True)``):
+the first points in long slivers (a finely divided outline triangulated
+without interior points) have cavities of hundreds of triangles, and a round
+inserts about one point per cavity-sized patch of bad triangles; once the
+cavities hold fewer than ``WARM_UP_CAVITY`` triangles on average, the rounds
+take over.
 """
 
 import math
@@ -118,6 +125,23 @@ def estimated_triangles(tri, max_area=None, max_edge=None):
     return est
 
 
+def _without_free_slots(mesh):
+    """Corner arrays (vertex, facing corner, constrained flag) of the live
+    triangles of `mesh`, renumbered without its free slots (which the
+    sequential refiner may leave)."""
+    tv = np.asarray(mesh.tv, dtype=np.int64)
+    tn = np.asarray(mesh.tn, dtype=np.int64)
+    tc = np.asarray(mesh.tc, dtype=np.int64)
+    live = tv.reshape(-1, 3)[:, 0] != DEAD
+    if live.all():
+        return tv, tn, tc
+    new_slot = np.cumsum(live) - 1
+    keep = np.repeat(live, 3)
+    tv, tn, tc = tv[keep], tn[keep], tc[keep]
+    tn = np.where(tn >= 0, 3 * new_slot[tn // 3] + tn % 3, tn)
+    return tv, tn, tc
+
+
 class _Rounds:
     """Array state of the refinement: corners V (vertex), N (facing corner
     of the neighbour, -1 on the border), CS (0 for a free edge, else 2 + the
@@ -130,13 +154,8 @@ class _Rounds:
         self.ref = ref
         mesh = ref.mesh
         self.n0 = ref.n0
-        tv = np.asarray(mesh.tv, dtype=np.int64)
-        tn = np.asarray(mesh.tn, dtype=np.int64)
-        tc = np.asarray(mesh.tc, dtype=np.int64)
+        tv, tn, tc = _without_free_slots(mesh)
         T = len(tv) // 3
-        live = tv.reshape(-1, 3)[:, 0] != DEAD
-        if not live.all():
-            raise RuntimeError("the starting mesh has free slots")
         nv = len(mesh.x)
         self.nv = nv
         self.ntri = T
@@ -1126,8 +1145,19 @@ def refine_batched(tri, ref, smoothing=False, smoothing_passes=4):
     """Run the refinement prepared in the sequential refiner `ref` (a
     engine.refine._Refiner) with array rounds; the few proposals the rounds
     cannot place, and smoothing when asked, go to `ref` on the same mesh."""
+    warm_up = len(ref.mesh.x) - ref.start        # points the sequential start added
+    if not ref.complete or not (ref.heap or ref.big or ref.segq):
+        # the sequential start did all the work (or reached the point cap)
+        if smoothing and smoothing_passes:
+            ref.smooth(smoothing_passes)
+        out = ref.result(tri)
+        out.stats.update(method="batched", warm_up_points=warm_up, batched_rounds=0)
+        return out
+    ref.heap.clear()                            # the rounds measure every triangle
+    ref.big.clear()
+    ref.segq.clear()
     rounds = _Rounds(ref)
-    cap = ref.cap
+    cap = ref.cap - warm_up
     added = rounds.run(cap)
     stats = ref.stats
     pending = len(rounds.todo)
@@ -1135,11 +1165,11 @@ def refine_batched(tri, ref, smoothing=False, smoothing_passes=4):
     need_tail = bool(tail) or smoothing
     if pending and added >= cap:
         ref.complete = False
-        ref.stop_reason = (f"max_points reached: {cap} points added, {pending} triangles "
+        ref.stop_reason = (f"max_points reached: {ref.cap} points added, {pending} triangles "
                            "still queued")
         need_tail = need_tail and smoothing
         tail = []
-    stats.update(batched_rounds=rounds.rounds, batched_flips=rounds.flips,
+    stats.update(warm_up_points=warm_up, batched_rounds=rounds.rounds, batched_flips=rounds.flips,
                  batched_flip_rounds=rounds.flip_rounds, batched_points=added,
                  sequential_tail=len(tail), method="batched")
     if not need_tail:

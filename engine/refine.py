@@ -87,7 +87,14 @@ DEFAULT_POINT_CAP = 2_000_000
 # smallest lens angle (degrees) used for encroachment, whatever min_angle is
 LENS_FLOOR = 5.0
 # method="auto" takes the batched path from this expected output size
-BATCHED_FROM = 20_000
+BATCHED_FROM = 3_000
+# the batched path starts once the sequential insertions' cavities hold
+# fewer triangles than this on average (over WARM_UP_WINDOW points): a
+# round inserts about one point per cavity-sized patch of bad triangles,
+# so while cavities are large (the first points in long slivers) one point
+# at a time is cheaper
+WARM_UP_CAVITY = 8.0
+WARM_UP_WINDOW = 64
 
 _NEXT = (1, 2, 0)
 _PREV = (2, 0, 1)
@@ -196,6 +203,7 @@ def refine(tri, *, min_angle=30.0, max_area=None, max_edge=None, keep_boundary=F
             ref.unsplittable.add(key)
             ref.fixed_keys.add(key)
     if batched:
+        ref.run(warm_up=True)
         return batch_refine.refine_batched(tri, ref, bool(smoothing), smoothing_passes)
     ref.prepare_relaxation()
     ref.run()
@@ -251,6 +259,7 @@ class _Refiner(SmoothingSteps):
         self.heap = []               # skinny triangles, worst first
         self.big = deque()           # triangles only too large, oldest first
         self.segq = []
+        self.cavity_triangles = 0       # triangles removed by the insertions so far
         self.complete = True
         self.stop_reason = ""
         self._mark_constraints(tri)
@@ -692,6 +701,7 @@ class _Refiner(SmoothingSteps):
                 ends.append((tv[b], tv[b + 1], tn[c], tc[c]))
         slots = cavity
         n = len(ends)
+        self.cavity_triangles += len(slots)
         extra = n - len(slots)
         if extra > 0:
             free = mesh.free
@@ -1171,7 +1181,10 @@ class _Refiner(SmoothingSteps):
         self.stats["unfixable_fixed_boundary"] += 1
 
     # ------------------------------------------------------------ main loop
-    def run(self):
+    def run(self, warm_up=False):
+        """Queue every bad triangle and encroached segment, then work the
+        queues.  warm_up=True: stop as soon as the cavities have become small
+        (see WARM_UP_CAVITY); the batched path takes over from there."""
         mesh = self.mesh
         tv, tn, tc = mesh.tv, mesh.tn, mesh.tc
         if not self.keep_boundary:
@@ -1183,13 +1196,15 @@ class _Refiner(SmoothingSteps):
             if tv[3 * t] != DEAD:
                 self._push_if_bad(t)
         self.start = len(mesh.x)
-        self.drain(self.cap)
+        self.drain(self.cap, warm_up=warm_up)
 
-    def drain(self, cap, where=""):
+    def drain(self, cap, where="", warm_up=False):
         """Work the queues (encroached segments first, then skinny triangles
         worst first, then too-large ones) until they are empty or `cap`
         points were added by this call (`where` names the stage in the
-        stop reason)."""
+        stop reason).  warm_up=True: also stop, queues left as they are, when
+        the last WARM_UP_WINDOW insertions removed fewer than WARM_UP_CAVITY
+        triangles each on average."""
         mesh = self.mesh
         tv, tn, tc = mesh.tv, mesh.tn, mesh.tc
         start = len(mesh.x)
@@ -1197,7 +1212,15 @@ class _Refiner(SmoothingSteps):
         fix = self._fix_triangle
         heappop = heapq.heappop
         popleft = big.popleft
+        check_at = start + WARM_UP_WINDOW if warm_up else math.inf
+        removed = self.cavity_triangles
         while True:
+            if len(mesh.x) >= check_at:
+                if self.cavity_triangles - removed < WARM_UP_CAVITY * (len(mesh.x) - check_at
+                                                                       + WARM_UP_WINDOW):
+                    break
+                check_at = len(mesh.x) + WARM_UP_WINDOW
+                removed = self.cavity_triangles
             if len(mesh.x) - start >= cap and (segq or heap or big):
                 self.complete = False
                 self.stop_reason = (f"max_points reached: {len(mesh.x) - start} points added"

@@ -23,7 +23,9 @@ from shapely.geometry import Polygon
 
 import engine
 from engine import batch_refine
+from engine.legalize import mesh_from_triangles
 from engine.quality import triangle_angles
+from engine.refine import WARM_UP_WINDOW
 from engine.validate import check_triangulation as engine_check
 
 from . import test_refine as base
@@ -203,3 +205,54 @@ def test_lake_with_islands_against_shapely():
     base.check_valid(out, pts, segs, loops)
     mins = min_angles(out)
     assert (mins >= 30.0).mean() >= 0.999
+
+
+def test_sliver_fan_starts_sequentially_then_goes_batched():
+    # an ellipse outlined by 600 close vertices: its constrained Delaunay
+    # triangulation is all long slivers, whose first insertions have cavities
+    # of hundreds of triangles.  The sequential refiner takes those, the rounds
+    # the rest; the result holds the same outside checks as the sequential
+    # path (tests/helpers.py's exact checker, shapely's area) and about as
+    # many points
+    th = 2 * np.pi * np.arange(600) / 600
+    loops = [list(zip(np.cos(th), 0.6 * np.sin(th)))]
+    pts, segs, tri = base.setup(loops)
+    outs = {m: _REAL_REFINE(tri, min_angle=30.0, max_edge=0.05, method=m)
+            for m in ("batched", "sequential")}
+    batched = outs["batched"]
+    assert batched.stats["warm_up_points"] >= WARM_UP_WINDOW
+    assert batched.stats["batched_rounds"] > 1 and batched.stats["batched_points"] > 0
+    for out in outs.values():
+        assert out.complete
+        base.check_valid(out, pts, segs, loops)
+        assert min_angles(out).min() >= 30.0
+        base.check_sizes(out, max_edge=0.05)
+    ns = outs["sequential"].stats["added_points"]
+    assert 0.8 * ns <= batched.stats["added_points"] <= 1.25 * ns
+
+
+def test_free_slots_of_the_sequential_start_are_dropped():
+    # the sequential refiner may leave free slots behind; the rounds number
+    # the live triangles afresh: the same triangles in the same order, and
+    # every neighbour link pairs two corners facing the same edge
+    _, _, tri = base.setup(racetrack(40, 12))
+    mesh = mesh_from_triangles(tri.points, tri.triangles)
+    gone = [3, 10, 11]
+    for t in gone:
+        for c in range(3 * t, 3 * t + 3):
+            if mesh.tn[c] >= 0:
+                mesh.tn[mesh.tn[c]] = -1
+        mesh.release(t)
+    tv, tn, tc = batch_refine._without_free_slots(mesh)
+    kept = np.delete(np.asarray(mesh_from_triangles(tri.points, tri.triangles).tv).reshape(-1, 3),
+                     gone, axis=0)
+    assert np.array_equal(tv.reshape(-1, 3), kept)
+    assert len(tn) == len(tc) == len(tv)
+    linked = np.flatnonzero(tn >= 0)
+    assert len(linked) > 0 and np.array_equal(tn[tn[linked]], linked)
+    nxt = linked - linked % 3 + (linked % 3 + 1) % 3
+    prv = linked - linked % 3 + (linked % 3 + 2) % 3
+    o = tn[linked]
+    o_nxt = o - o % 3 + (o % 3 + 1) % 3
+    o_prv = o - o % 3 + (o % 3 + 2) % 3
+    assert np.array_equal(tv[nxt], tv[o_prv]) and np.array_equal(tv[prv], tv[o_nxt])
