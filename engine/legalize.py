@@ -9,8 +9,9 @@ all triangulations with those edges fixed.  No point is added or moved.
 
 import numpy as np
 
+from .bulk_delaunay import incircle_sign
 from .cdt import check_points
-from .mesh import Mesh
+from .mesh import DEAD, Mesh
 from .predicates import orient2d_many
 
 
@@ -76,6 +77,24 @@ def mesh_from_triangles(points, triangles):
     mesh.vt = vt
     mesh.last = 0
     return mesh
+
+
+def illegal_corners(mesh):
+    """Corners (one per edge) whose edge is flippable and fails the exact
+    incircle test, found for the whole mesh at once: the starting stack of
+    Lawson's algorithm without a Python-level test of every edge."""
+    tv = np.asarray(mesh.tv, dtype=np.int64)
+    tn = np.asarray(mesh.tn, dtype=np.int64)
+    tc = np.asarray(mesh.tc, dtype=np.int64)
+    c = np.flatnonzero((tn > np.arange(len(tn))) & (tc == 0))
+    b = c - c % 3
+    p0, p1, p2, q = tv[b], tv[b + 1], tv[b + 2], tv[tn[c]]
+    real = (p0 >= 0) & (p1 >= 0) & (p2 >= 0) & (q >= 0) & (p0 != DEAD)
+    c, p0, p1, p2, q = c[real], p0[real], p1[real], p2[real], q[real]
+    x = np.asarray(mesh.x, dtype=np.float64)
+    y = np.asarray(mesh.y, dtype=np.float64)
+    sign = incircle_sign(x[p0], y[p0], x[p1], y[p1], x[p2], y[p2], x[q], y[q])
+    return c[sign > 0].tolist()
 
 
 def legalize(points, triangles, *, fixed=None):

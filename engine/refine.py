@@ -70,7 +70,7 @@ from collections import deque
 import numpy as np
 
 from .cdt import mesh_to_triangulation
-from .legalize import mesh_from_triangles
+from .legalize import illegal_corners, mesh_from_triangles
 from .mesh import DEAD
 from .predicates import CCW_BOUND, INCIRCLE_LOOSE, incircle_exact, orient2d, orient2d_exact
 from .quality import quality
@@ -264,7 +264,7 @@ class _Refiner(SmoothingSteps):
         self.stop_reason = ""
         self._mark_constraints(tri)
         # the input need not be constrained Delaunay: make it so (no point moves)
-        mesh.legalize_corners(range(len(mesh.tv)))
+        mesh.legalize_corners(illegal_corners(mesh))
         self.small_apex = self._small_angle_apexes()
         self.grid = SizeGrid(mesh, self.n0, size_growth, max_edge) if size_growth else None
         self.relax = None
@@ -330,18 +330,31 @@ class _Refiner(SmoothingSteps):
         mesh = self.mesh
         tv, tn, tc, x, y = mesh.tv, mesh.tn, mesh.tc, mesh.x, mesh.y
         limit = math.radians(SMALL_INPUT_ANGLE)
-        apexes = set()
-        # candidates: vertices with at least two constrained edges
-        count = {}
-        for c in range(len(tv)):
-            if tv[c] == DEAD:
-                continue
-            if tc[c] or tn[c] < 0:
-                for w in (tv[_next(c)], tv[_prev(c)]):
-                    count[w] = count.get(w, 0) + 1
-        for v, k in count.items():
-            if k < 2:
-                continue
+        # candidates: vertices with at least two constrained edges.  A vertex
+        # whose only two are border edges has one sector, the sum of its
+        # corner angles (all vertices of a plain outline: found at once)
+        corner_v = np.asarray(tv, dtype=np.int64)
+        facing = np.asarray(tn, dtype=np.int64)
+        live = corner_v != DEAD
+        blocking = live & ((np.asarray(tc, dtype=np.int64) != 0) | (facing < 0))
+        c = np.arange(len(corner_v))
+        nxt_v = corner_v[c - c % 3 + (c % 3 + 1) % 3]
+        prv_v = corner_v[c - c % 3 + (c % 3 + 2) % 3]
+        n = len(x)
+        count = (np.bincount(nxt_v[blocking], minlength=n)
+                 + np.bincount(prv_v[blocking], minlength=n))
+        border = live & (facing < 0)
+        border_count = (np.bincount(nxt_v[border], minlength=n)
+                        + np.bincount(prv_v[border], minlength=n))
+        px, py = np.asarray(x), np.asarray(y)
+        v0, a0, b0 = corner_v[live], nxt_v[live], prv_v[live]
+        ux, uy = px[a0] - px[v0], py[a0] - py[v0]
+        wx, wy = px[b0] - px[v0], py[b0] - py[v0]
+        angle = np.arctan2(np.abs(ux * wy - uy * wx), ux * wx + uy * wy)
+        angle_sum = np.bincount(v0, weights=angle, minlength=n)
+        simple = (count == 2) & (border_count == 2)
+        apexes = set(np.flatnonzero(simple & (angle_sum < limit)).tolist())
+        for v in np.flatnonzero((count >= 2) & ~simple).tolist():
             fan = mesh.corners_around(v)
             if not fan:
                 continue
