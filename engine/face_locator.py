@@ -77,11 +77,7 @@ class FaceLocator:
         order = np.argsort(hilbert_keys(pts), kind="stable")
         mesh = self.mesh
         tv, x, y = mesh.tv, mesh.x, mesh.y
-        slot = np.empty(q, dtype=np.int64)
-        xs, ys = pts[:, 0].tolist(), pts[:, 1].tolist()
-        locate = mesh.locate
-        for i in order.tolist():
-            slot[i] = locate(xs[i], ys[i])
+        slot = _visibility_walks(mesh, pts, order)
         # the walk stops at the mesh's open border for a point outside it:
         # keep only the slots that hold their point (exact signs)
         corner = np.asarray(tv, dtype=np.int64).reshape(-1, 3)[slot]
@@ -136,6 +132,53 @@ class FaceLocator:
         w = _barycentric_many(self.pts[self.tris[idx]], np.array([[px, py]]))
         worst = w.min(axis=1)
         return int(idx[int(np.argmax(worst))])
+
+
+def _visibility_walks(mesh, pts, order):
+    """Slot of a triangle of `mesh` (open borders, no ghosts) holding each
+    point, the points taken in `order`, each walk starting where the last one
+    ended.  A visibility walk (Devillers, Pion and Teillaud 2002) that
+    rotates the edge it tests first, a deterministic stand-in for their
+    stochastic walk, with each edge's line equation computed once.  The signs
+    are floating-point and a walk that reaches the step limit just ends: the
+    caller checks every result exactly and locates the misses again."""
+    tv = np.asarray(mesh.tv, dtype=np.int64)
+    xy = np.column_stack((mesh.x, mesh.y))
+    c = np.arange(len(tv))
+    a = xy[tv[c - c % 3 + (c % 3 + 1) % 3]]
+    b = xy[tv[c - c % 3 + (c % 3 + 2) % 3]]
+    # orient2d(a, b, p) = A * px + B * py + C: > 0 when p lies left of a -> b,
+    # inside the (counter-clockwise) triangle of corner c
+    line_a = (a[:, 1] - b[:, 1]).tolist()
+    line_b = (b[:, 0] - a[:, 0]).tolist()
+    line_c = (a[:, 0] * b[:, 1] - a[:, 1] * b[:, 0]).tolist()
+    tn = mesh.tn
+    xs, ys = pts[:, 0].tolist(), pts[:, 1].tolist()
+    slot = [0] * len(xs)
+    limit = 4 * len(tn) + 100
+    t = 0
+    turn = 0
+    for i in order.tolist():
+        px = xs[i]
+        py = ys[i]
+        for _ in range(limit):
+            base = 3 * t
+            turn = 0 if turn == 2 else turn + 1
+            c = base + turn
+            if line_a[c] * px + line_b[c] * py + line_c[c] < 0.0 and tn[c] >= 0:
+                t = tn[c] // 3
+                continue
+            c = base + (0 if turn == 2 else turn + 1)
+            if line_a[c] * px + line_b[c] * py + line_c[c] < 0.0 and tn[c] >= 0:
+                t = tn[c] // 3
+                continue
+            c = base + (2 if turn == 0 else turn - 1)
+            if line_a[c] * px + line_b[c] * py + line_c[c] < 0.0 and tn[c] >= 0:
+                t = tn[c] // 3
+                continue
+            break
+        slot[i] = t
+    return np.asarray(slot, dtype=np.int64)
 
 
 def _barycentric_many(corners, points):
