@@ -212,6 +212,38 @@ def refine(tri, *, min_angle=30.0, max_area=None, max_edge=None, keep_boundary=F
     return ref.result(tri)
 
 
+class _CornerFigures:
+    """Per-corner and per-vertex figures of an open-bordered Mesh, in arrays:
+    the vertex at each corner, which corners face a constrained or border
+    edge, each corner's angle, and per vertex the number of constrained and
+    of border edge ends and the sum of its corner angles."""
+
+    def __init__(self, mesh):
+        corner_v = np.asarray(mesh.tv, dtype=np.int64)
+        facing = np.asarray(mesh.tn, dtype=np.int64)
+        self.corner_v = corner_v
+        self.live = live = corner_v != DEAD
+        self.blocking = live & ((np.asarray(mesh.tc, dtype=np.int64) != 0) | (facing < 0))
+        c = np.arange(len(corner_v))
+        nxt_v = corner_v[c - c % 3 + (c % 3 + 1) % 3]
+        prv_v = corner_v[c - c % 3 + (c % 3 + 2) % 3]
+        n = len(mesh.x)
+
+        def ends(mask):
+            return (np.bincount(nxt_v[mask], minlength=n)
+                    + np.bincount(prv_v[mask], minlength=n))
+        self.count = ends(self.blocking)
+        self.border_count = ends(live & (facing < 0))
+        px, py = np.asarray(mesh.x), np.asarray(mesh.y)
+        v0, a0, b0 = corner_v[live], nxt_v[live], prv_v[live]
+        ux, uy = px[a0] - px[v0], py[a0] - py[v0]
+        wx, wy = px[b0] - px[v0], py[b0] - py[v0]
+        angle = np.zeros(len(corner_v))
+        angle[live] = np.arctan2(np.abs(ux * wy - uy * wx), ux * wx + uy * wy)
+        self.angle = angle.tolist()
+        self.angle_sum = np.bincount(v0, weights=angle[live], minlength=n)
+
+
 class _Refiner(SmoothingSteps):
     """The refinement state: an open-bordered Mesh over the kept region plus
     the queues of encroached segments and bad triangles."""
@@ -265,7 +297,11 @@ class _Refiner(SmoothingSteps):
         self._mark_constraints(tri)
         # the input need not be constrained Delaunay: make it so (no point moves)
         mesh.legalize_corners(illegal_corners(mesh))
-        self.small_apex = self._small_angle_apexes()
+        figures = _CornerFigures(mesh)
+        self.small_apex = self._small_angle_apexes(figures)
+        # vertices where the region pinches (a hole touching the outline):
+        # their triangles form more than one fan
+        self.pinched = set(np.flatnonzero(figures.border_count > 2).tolist())
         self.grid = SizeGrid(mesh, self.n0, size_growth, max_edge) if size_growth else None
         self.relax = None
 
@@ -324,61 +360,64 @@ class _Refiner(SmoothingSteps):
             mesh.set_constraint(c, True)
             mesh.constraint_info[(a, b)] = [s, 1, 1]
 
-    def _small_angle_apexes(self):
+    def _small_angle_apexes(self, fig):
         """Input vertices where two constrained edges (segments or border)
-        bound a sector of the mesh with an angle under SMALL_INPUT_ANGLE."""
+        bound a sector of the mesh with an angle under SMALL_INPUT_ANGLE
+        (`fig`: the mesh's _CornerFigures)."""
         mesh = self.mesh
-        tv, tn, tc, x, y = mesh.tv, mesh.tn, mesh.tc, mesh.x, mesh.y
+        tv, tn, tc = mesh.tv, mesh.tn, mesh.tc
         limit = math.radians(SMALL_INPUT_ANGLE)
-        # candidates: vertices with at least two constrained edges.  A vertex
-        # whose only two are border edges has one sector, the sum of its
-        # corner angles (all vertices of a plain outline: found at once)
-        corner_v = np.asarray(tv, dtype=np.int64)
-        facing = np.asarray(tn, dtype=np.int64)
-        live = corner_v != DEAD
-        blocking = live & ((np.asarray(tc, dtype=np.int64) != 0) | (facing < 0))
-        c = np.arange(len(corner_v))
-        nxt_v = corner_v[c - c % 3 + (c % 3 + 1) % 3]
-        prv_v = corner_v[c - c % 3 + (c % 3 + 2) % 3]
-        n = len(x)
-        count = (np.bincount(nxt_v[blocking], minlength=n)
-                 + np.bincount(prv_v[blocking], minlength=n))
-        border = live & (facing < 0)
-        border_count = (np.bincount(nxt_v[border], minlength=n)
-                        + np.bincount(prv_v[border], minlength=n))
-        px, py = np.asarray(x), np.asarray(y)
-        v0, a0, b0 = corner_v[live], nxt_v[live], prv_v[live]
-        ux, uy = px[a0] - px[v0], py[a0] - py[v0]
-        wx, wy = px[b0] - px[v0], py[b0] - py[v0]
-        angle = np.arctan2(np.abs(ux * wy - uy * wx), ux * wx + uy * wy)
-        angle_sum = np.bincount(v0, weights=angle, minlength=n)
-        simple = (count == 2) & (border_count == 2)
-        apexes = set(np.flatnonzero(simple & (angle_sum < limit)).tolist())
-        for v in np.flatnonzero((count >= 2) & ~simple).tolist():
-            fan = mesh.corners_around(v)
-            if not fan:
-                continue
-            # rotate a closed fan to start just after a constrained edge
-            cw_edge = [tc[_prev(c)] or tn[_prev(c)] < 0 for c in fan]
-            if not any(cw_edge):
-                continue
-            start = cw_edge.index(True)
-            fan = fan[start:] + fan[:start]
+        # a vertex whose only constrained edges are its two border edges has
+        # one sector, the sum of its corner angles (every vertex of a plain
+        # outline: found at once)
+        simple = (fig.count == 2) & (fig.border_count == 2)
+        apexes = set(np.flatnonzero(simple & (fig.angle_sum < limit)).tolist())
+        # the others (segments at the vertex, or two fans at a vertex where a
+        # hole touches the outline): walk each sector counter-clockwise from
+        # the constrained edge that opens it to the one that closes it
+        others = np.zeros(len(fig.count), dtype=bool)
+        others[np.flatnonzero((fig.count >= 2) & ~simple)] = True
+        corner = np.arange(len(fig.corner_v))
+        opens = fig.live & fig.blocking[corner - corner % 3 + (corner % 3 + 2) % 3]
+        angle = fig.angle
+        for c in np.flatnonzero(opens & others[np.maximum(fig.corner_v, 0)]).tolist():
+            v = tv[c]
             sector = 0.0
-            for c in fan:
-                a, b = tv[_next(c)], tv[_prev(c)]
-                ux, uy = x[a] - x[v], y[a] - y[v]
-                wx, wy = x[b] - x[v], y[b] - y[v]
-                sector += math.atan2(abs(ux * wy - uy * wx), ux * wx + uy * wy)
-                if tc[_next(c)] or tn[_next(c)] < 0:
-                    if sector < limit:
-                        apexes.add(v)
-                    sector = 0.0
+            for _ in range(len(tv)):
+                sector += angle[c]
+                n = _next(c)
+                if tc[n] or tn[n] < 0:
+                    break
+                c = _next(tn[n])
+            if sector < limit:
+                apexes.add(v)
         return apexes
 
     # ------------------------------------------------------------ queries
     def _edge_corner(self, u, v):
-        """Corner opposite edge {u, v} (in a triangle holding it), or -1."""
+        """Corner opposite edge {u, v} (in a triangle holding it), or -1.
+        The search turns around one end; an end where the region pinches has
+        several fans, so the other end is tried too, and a scan settles an
+        edge between two such vertices."""
+        c = self._edge_corner_around(u, v)
+        if c < 0 and u in self.pinched:
+            c = self._edge_corner_around(v, u)
+            if c < 0 and v in self.pinched:
+                c = self._edge_corner_by_scan(u, v)
+        return c
+
+    def _edge_corner_by_scan(self, u, v):
+        tv = self.mesh.tv
+        for c in range(len(tv)):
+            if tv[c] == DEAD:
+                continue
+            a, b = tv[_next(c)], tv[_prev(c)]
+            if (a == u and b == v) or (a == v and b == u):
+                return c
+        return -1
+
+    def _edge_corner_around(self, u, v):
+        """_edge_corner by turning around u from its cached corner."""
         mesh = self.mesh
         tv, tn, vt = mesh.tv, mesh.tn, mesh.vt
         c0 = vt[u]

@@ -93,6 +93,58 @@ def test_refine_segment_splits_at_1e6_stay_constrained_delaunay(fill, cap, metho
         assert out.complete is True
 
 
+# a pentagon (radius 5) with a triangular hole whose corner is outline
+# vertex 0, so the region pinches there into two fans; found by the strategy
+# polygons_with_holes ("at_vertex", unit scale) with a size limit
+PENTAGON_HOLE_AT_VERTEX = [
+    [(5.0, 0.0), (3.061616997868383e-16, 5.0), (-4.045084971874736, 2.9389262614623664),
+     (-4.045084971874738, -2.938926261462365), (1.5450849718747361, -4.755282581475768)],
+    [(5.0, 0.0), (2.5, 0.0), (2.0, 0.5)],
+]
+
+
+@pytest.mark.parametrize("method", ["sequential", "batched"])
+@pytest.mark.parametrize("fill", ["even-odd", "nonzero"])
+def test_size_limit_holds_next_to_a_pinched_vertex(fill, method):
+    # a triangle at the pinched vertex asked to split the outline piece it
+    # encroaches upon; the search for that edge turned around the vertex's
+    # other fan only, the split was dropped and a triangle 2.7 times over
+    # max_area stayed in a run reported complete.  A completed run honours
+    # max_area (refine's docstring: a hard limit; expect_refine_contract
+    # checks it in exact arithmetic) and passes both exact checkers with the
+    # fill rule's area from shapely/GEOS
+    loops = PENTAGON_HOLE_AT_VERTEX
+    pts, segs = A.loops_to_input(loops)
+    tri = engine.triangulate(pts, segs, fill=fill)
+    out = expect_refine_contract(tri, pts, segs, fill=fill, area=H.fill_rule_area(loops, fill),
+                                 cover="kept", min_angle=0.0, off_centers=False,
+                                 max_area=abs(tri.area()) / 50, method=method)
+    assert out.complete is True
+
+
+@pytest.mark.parametrize("turn", [0.0, 0.7, 1.9, 3.3, 4.4, 5.6])
+@pytest.mark.parametrize("reverse_hole", [False, True])
+def test_small_angle_in_either_fan_of_a_pinched_vertex(turn, reverse_hole):
+    # a 10 x 10 floor with a triangular pit touching its corner (10, 0): the
+    # pit's sides leave the corner at 100 and 110 degrees, so the corner's
+    # two sectors measure 10 and 70 degrees (the outline sides run at 90 and
+    # 180).  The 10 degree sector makes it a small-angle apex whichever fan
+    # the search starts in (rotations and the listing order move it); every
+    # other vertex sees at least 60 degrees (the floor's corners 90, the pit's
+    # corners are reflex from the floor), so exactly one apex is reported
+    c, s = np.cos(np.radians([100.0, 110.0])), np.sin(np.radians([100.0, 110.0]))
+    pit = [(10.0, 0.0), (10.0 + 6.0 * c[1], 6.0 * s[1]), (10.0 + 4.0 * c[0], 4.0 * s[0])]
+    if reverse_hole:
+        pit = pit[::-1]
+    rot = np.array([[np.cos(turn), -np.sin(turn)], [np.sin(turn), np.cos(turn)]])
+    loops = [[tuple(rot @ p) for p in [(0.0, 0.0), (10.0, 0.0), (10.0, 10.0), (0.0, 10.0)]],
+             [tuple(rot @ p) for p in pit]]
+    pts, segs = A.loops_to_input(loops)
+    tri = engine.triangulate(pts, segs)
+    out = engine.refine(tri, min_angle=25.0, method="sequential")
+    assert out.stats["small_input_angle_vertices"] == 1
+
+
 # --------------------------------------------------------------------------
 # remeshing: a fin standing on an edge inside a region
 # --------------------------------------------------------------------------
