@@ -972,7 +972,7 @@ class _Refiner(SmoothingSteps):
         if key in self.unsplittable or self.keep_boundary:
             return False
         px, py, shorter = self._split_position(u, v)
-        if shorter < self.min_len or (px, py) in ((x[u], y[u]), (x[v], y[v])):
+        if shorter < self.min_len:
             self._freeze(key)
             return False
         oc = tn[c]
@@ -981,8 +981,17 @@ class _Refiner(SmoothingSteps):
         tc[c] = 0
         if oc >= 0:
             tc[oc] = 0
-        found = self._cavity(px, py, seeds, skip=c if oc < 0 else -1)
-        if found[1] is None:
+        found = None
+        # the split point, or a spare a third of the way from either end when
+        # a vertex sits on it or next to it (an input vertex a rounding error
+        # off the segment): the cavity must be star-shaped from the point
+        for px, py in ((px, py), self._along(u, v, 1.0 / 3.0), self._along(u, v, 2.0 / 3.0)):
+            if (px, py) in ((x[u], y[u]), (x[v], y[v])):
+                continue
+            found = self._cavity(px, py, seeds, skip=c if oc < 0 else -1)
+            if found[1] is not None:
+                break
+        if found is None or found[1] is None:
             tc[c] = constrained
             if oc >= 0:
                 tc[oc] = constrained
@@ -1010,6 +1019,10 @@ class _Refiner(SmoothingSteps):
         if orient2d(x[u], y[u], x[v], y[v], px, py) != 0:
             self._legalize_fan(slots)
         return True
+
+    def _along(self, u, v, t):
+        x, y = self.mesh.x, self.mesh.y
+        return x[u] + t * (x[v] - x[u]), y[u] + t * (y[v] - y[u])
 
     def _legalize_fan(self, slots):
         """Lawson flips over every edge of the triangles `slots`.  A split
@@ -1305,10 +1318,31 @@ class _Refiner(SmoothingSteps):
         live = [t for t in range(len(mesh.mark)) if mesh.tv[3 * t] != DEAD]
         return self.finish(tri, mesh_to_triangulation(mesh, live, tri.merged_into))
 
+    def _over_size_limits(self, out):
+        """How many triangles of out break max_area or max_edge (the same
+        float tests as the refinement); 0 when the limits may relax (kept
+        outline or fixed segments)."""
+        if self.keep_boundary or self.fixed_keys or len(out.triangles) == 0 or (
+                self.area2_limit == math.inf and self.edge2_limit == math.inf):
+            return 0
+        p = np.asarray(out.points, dtype=np.float64)[np.asarray(out.triangles)]
+        e = p[:, [2, 0, 1]] - p[:, [1, 2, 0]]
+        area2 = e[:, 2, 0] * (-e[:, 1, 1]) - e[:, 2, 1] * (-e[:, 1, 0])
+        longest = (e * e).sum(axis=2).max(axis=1)
+        return int(((area2 > self.area2_limit) | (longest > self.edge2_limit)).sum())
+
     def finish(self, tri, out):
         """Set the completion flag, stop reason and before/after figures on out."""
         out.complete = self.complete
         out.stop_reason = self.stop_reason
+        over = self._over_size_limits(out)
+        if over and out.complete:
+            # the limits are hard: a run that could not meet them is not
+            # complete (segment pieces next to them too short to split)
+            out.complete = False
+            out.stop_reason = (f"{over} triangle(s) above the size limits next to "
+                               f"{self.stats['frozen_segments']} segment piece(s) too short "
+                               "to split")
         q0 = quality(tri.points, tri.triangles)
         q1 = quality(out.points, out.triangles)
         stats = dict(self.stats)

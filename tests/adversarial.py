@@ -610,12 +610,16 @@ def polygons_with_holes(draw):
 
 @st.composite
 def refine_options(draw, cap_max=300):
-    """Options for engine.refine with a small point cap (the run must stop)."""
+    """Options for engine.refine with a small point cap (the run must stop),
+    plus "size_parts": None, or the number of parts the region's area is cut
+    into to give max_area (the test turns it into max_area)."""
     return dict(min_angle=draw(st.sampled_from([0.0, 20.0, 30.0, 35.0, 59.0])),
                 max_points=draw(st.integers(0, cap_max)),
                 keep_boundary=draw(st.booleans()),
                 off_centers=draw(st.booleans()),
-                encroachment=draw(st.sampled_from(["lens", "circle"])))
+                encroachment=draw(st.sampled_from(["lens", "circle"])),
+                size_parts=draw(st.sampled_from([None, None, 10, 50, 150])),
+                method=draw(st.sampled_from(["auto", "sequential", "batched"])))
 
 
 @st.composite

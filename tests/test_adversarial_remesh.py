@@ -10,6 +10,7 @@ outside source beside it.  No timing assertions.
 
 from __future__ import annotations
 
+import importlib
 from collections import Counter
 
 import numpy as np
@@ -120,6 +121,52 @@ def test_size_limit_holds_next_to_a_pinched_vertex(fill, method):
                                  cover="kept", min_angle=0.0, off_centers=False,
                                  max_area=abs(tri.area()) / 50, method=method)
     assert out.complete is True
+
+
+# the same pentagon with a hole whose corner is the midpoint of the outline
+# edge 0-1 as rounded: (2.5, 2.5) lies a rounding error off that edge, and
+# the edge's own midpoint rounds onto it ("on_edge", unit scale)
+PENTAGON_HOLE_ON_EDGE = [
+    PENTAGON_HOLE_AT_VERTEX[0],
+    [(2.5, 2.5), (0.95, 1.25), (1.25, 0.95)],
+]
+
+
+@pytest.mark.parametrize("method", ["sequential", "batched"])
+@pytest.mark.parametrize("fill", ["even-odd", "nonzero"])
+def test_size_limit_holds_when_a_split_point_lands_on_a_vertex(fill, method):
+    # splitting outline edge 0-1 at its midpoint would put a point on the
+    # hole's corner; the edge used to be frozen whole, leaving a triangle 1.24
+    # times over max_area in a run reported complete.  The split now takes a
+    # spare point a third of the way along; the completed run honours max_area
+    # (exact check) and both exact checkers pass with shapely/GEOS's area
+    loops = PENTAGON_HOLE_ON_EDGE
+    pts, segs = A.loops_to_input(loops)
+    tri = engine.triangulate(pts, segs, fill=fill)
+    out = expect_refine_contract(tri, pts, segs, fill=fill, area=H.fill_rule_area(loops, fill),
+                                 cover="kept", min_angle=0.0, off_centers=False,
+                                 max_area=abs(tri.area()) / 50, method=method)
+    assert out.complete is True
+
+
+def test_a_run_that_cannot_meet_the_size_limit_is_not_complete(monkeypatch):
+    # max_area is a hard limit (refine's docstring): when no segment may be
+    # split (every split refused, as for pieces too short to split), the
+    # triangles along the outline stay too large, and the run must say so
+    def refuse_split(self, c):
+        tv = self.mesh.tv
+        u, v = tv[c - c % 3 + (c % 3 + 1) % 3], tv[c - c % 3 + (c % 3 + 2) % 3]
+        self._freeze((min(u, v), max(u, v)))
+        return False
+
+    monkeypatch.setattr(importlib.import_module("engine.refine")._Refiner, "_split_segment",
+                        refuse_split)
+    loops = [[(0.0, 0.0), (4.0, 0.0), (4.0, 4.0), (0.0, 4.0)]]
+    pts, segs = A.loops_to_input(loops)
+    tri = engine.triangulate(pts, segs)
+    out = engine.refine(tri, min_angle=0.0, max_area=0.05, method="sequential")
+    assert out.complete is False
+    assert "above the size limits" in out.stop_reason
 
 
 @pytest.mark.parametrize("turn", [0.0, 0.7, 1.9, 3.3, 4.4, 5.6])
