@@ -41,7 +41,8 @@ class Figures:
     min_angle_after: float = math.inf
     added_vertices: int = 0
     flips: int = 0
-    incomplete: int = 0
+    incomplete: int = 0         # regions stopped at the point limit
+    over_size: int = 0          # regions left with triangles over a size limit
     engine_seconds: float = 0.0
 
     def add_regions(self, reports):
@@ -49,7 +50,10 @@ class Figures:
             if report.status == "changed":
                 self.regions_changed += 1
                 if not report.complete:
-                    self.incomplete += 1
+                    if "max_points" in (report.reason or ""):
+                        self.incomplete += 1
+                    else:
+                        self.over_size += 1
             elif report.status == "skipped":
                 self.regions_skipped += 1
                 self.reasons[short_reason(report.reason)] += 1
@@ -81,6 +85,9 @@ class Figures:
             text += f" ({self.reason_text()})"
         if self.incomplete:
             text += f"; {self.incomplete} stopped at the point limit"
+        if self.over_size:
+            text += (f"; {self.over_size} above the size limit next to edges too short "
+                     "to split")
         text += (f"; triangles {self.triangles_before} → {self.triangles_after}"
                  f"; smallest angle {self.angle_text(self.min_angle_before)} → "
                  f"{self.angle_text(self.min_angle_after)}")

@@ -37,7 +37,7 @@ class RegionReport:
     min_angle_before: float = float("nan")
     min_angle_after: float = float("nan")
     added_points: int = 0
-    complete: bool = True        # False when a point cap stopped refinement early
+    complete: bool = True        # False: stopped by the point cap, or size limits not met
     face_ids: list = field(default_factory=list)   # the original faces of the region
     normal: tuple = (0.0, 0.0, 1.0)                # unit normal of its plane
 

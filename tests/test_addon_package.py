@@ -129,3 +129,23 @@ def test_thin_mask_skips_quads_and_hidden_faces():
     hidden = np.array([False, True, False])
     assert measure.thin_triangle_mask(pos, starts, totals, corner_verts, 6,
                                       hidden).tolist() == [False, False, True]
+
+
+def test_report_line_names_why_a_region_is_not_complete():
+    # the one-line report: a region stopped by the point limit and one left
+    # above the size limit are told apart (the engine's stop reasons)
+    from addon import jobs
+    figures = jobs.Figures(meshes=1)
+    figures.add_regions([
+        engine.RegionReport(region=0, faces=4, status="changed", complete=False,
+                            reason="max_points reached: 10 points added, 3 triangles "
+                                   "and 0 segments still queued"),
+        engine.RegionReport(region=1, faces=4, status="changed", complete=False,
+                            reason="2 triangle(s) above the size limits next to 1 segment "
+                                   "piece(s) too short to split"),
+        engine.RegionReport(region=2, faces=4, status="changed"),
+    ])
+    line = figures.line()
+    assert "Remeshed 3 region(s)" in line
+    assert "1 stopped at the point limit" in line
+    assert "1 above the size limit" in line
