@@ -8,7 +8,8 @@ The contract (issue 8, engine part):
   triangles, local constrained Delaunay, constraints covered, area kept) -
   or a ValueError whose message names the problem;
 * engine.refine always stops: the point cap (max_points) is honoured, and a
-  capped run says so (complete=False, stop_reason naming max_points);
+  capped run says so (complete=False, stop_reason naming max_points); so does
+  a run left above a hard size limit (max_area, max_edge);
 * engine.remesh_flat_regions never raises for one bad region (it skips it
   with a reason) and returns a MeshEdit whose applied mesh has no new
   T-junction, keeps every original vertex position bit for bit, and keeps
@@ -214,8 +215,11 @@ def expect_refine_contract(tri, points, segments, *, fill, area, strict=True, co
     if out.complete:
         assert out.stop_reason == "", out.stop_reason
     else:
-        assert re.search(r"max_points", out.stop_reason), \
-            f"capped run without a reason naming the cap: {out.stop_reason!r}"
+        # stopped by the cap, or (max_area / max_edge are hard limits) unable
+        # to meet a size limit next to pieces too short to split
+        assert re.search(r"max_points|above the size limits", out.stop_reason), \
+            f"incomplete run without a reason naming the cap or the limit: " \
+            f"{out.stop_reason!r}"
     assert np.array_equal(out.points[:len(tri.points)], tri.points)
     check_engine_validator(out, segments)
     H.check_triangulation(out, points, first_copies_only(points, segments), fill=fill, area=area,
@@ -403,7 +407,8 @@ def expect_remesh_contract(vertices, faces, **options):
         if r.status == "skipped":
             assert r.reason.strip(), f"region {r.region} skipped without a reason"
         if not r.complete:
-            assert "max_points" in r.reason, f"capped region without reason: {r.reason!r}"
+            assert re.search(r"max_points|above the size limits", r.reason), \
+                f"incomplete region without a reason: {r.reason!r}"
     cap = options.get("max_points")
     for r in edit.regions:
         # a region's own added points are capped (split points that earlier
