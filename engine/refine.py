@@ -142,9 +142,10 @@ def refine(tri, *, min_angle=30.0, max_area=None, max_edge=None, keep_boundary=F
                      20.7 degrees termination is guaranteed for inputs without
                      angles under 60; up to about 33 it is reached in practice;
                      above that the run usually stops at the point limit.
-    max_area         no triangle larger than this (hard limit: a run that
-                     cannot meet it, next to segment pieces too short to
-                     split, ends with complete=False and a stop_reason).
+    max_area         no triangle larger than this (hard limit, measured in
+                     floating point: a run that cannot meet it, next to
+                     segment pieces too short to split, ends with
+                     complete=False and a stop_reason).
     max_edge         no triangle edge longer than this (hard limit, as above).
     keep_boundary    True: no point is added on any constrained edge or on the
                      border of the region, so the outline and every segment

@@ -269,6 +269,11 @@ class _EditBuilder:
         faces = region.faces
         if self._degenerate(faces):
             raise RegionSkipped("degenerate: the faces have no area")
+        if len(region.noise_faces) == len(faces):
+            # every face is thinner than the coordinates' rounding (a
+            # zero-area face stored in single precision): nothing to remesh
+            raise RegionSkipped("degenerate: the faces are thinner than the rounding "
+                                "of their coordinates")
         if region.deviation > region.tolerance * 1.000001:
             raise RegionSkipped(f"not flat within tolerance (deviation {region.deviation:.3g} "
                                 f"> {region.tolerance:.3g})")

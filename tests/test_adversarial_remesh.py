@@ -383,6 +383,33 @@ def test_size_only_refinement_splits_segments_instead_of_hugging_them():
     assert edit.regions[0].min_angle_after > 1.0
 
 
+def test_region_of_one_single_precision_sliver_is_left_alone():
+    # found by the strategy flat_meshes ("panel:zero_area/float32/1e-9"): a
+    # nanometre panel whose zero-area face (3, 8, 9), vertex 8 the midpoint of
+    # 3-9, was rounded to float32, leaving vertex 8 7e-18 off that edge (under
+    # the float32 spacing there, IEEE 754).  Its own region was refined: a
+    # split point of edge 3-9 landed a hair from vertex 8, and the mesh got a
+    # new T-junction.  Such a region is skipped as degenerate; the remesh
+    # contract (no new T-junction) holds
+    v = np.array([
+        [4.999999969612645e-09, -3.000000026176508e-09, 1.999999943436137e-09],
+        [4.010007437216245e-09, -2.8588800216056143e-09, 1.999999943436137e-09],
+        [3.0200149048198455e-09, -2.7177600170347205e-09, 1.999999943436137e-09],
+        [2.0300225944680506e-09, -2.5766400124638267e-09, 1.999999943436137e-09],
+        [4.858879965041751e-09, -3.989992336528303e-09, 1.999999943436137e-09],
+        [3.8688874326453515e-09, -3.848872331957409e-09, 1.999999943436137e-09],
+        [2.8788949002489517e-09, -3.7077525494311203e-09, 1.999999943436137e-09],
+        [1.8889025898971568e-09, -3.5666325448602265e-09, 1.999999943436137e-09],
+        [1.0400300620716507e-09, -2.435520007892933e-09, 1.999999943436137e-09],
+        [5.003751579746307e-11, -2.294400003322039e-09, 1.999999943436137e-09]])
+    faces = [[0, 1, 5, 4], [1, 2, 6, 5], [2, 3, 7, 6], [3, 8, 9]]
+    edit = expect_remesh_contract(v, faces, min_angle=0.0, max_points=3, flat_angle=0.5)
+    sliver = [r for r in edit.regions if r.face_ids == [3]]
+    assert len(sliver) == 1 and sliver[0].status == "skipped"
+    assert "degenerate" in sliver[0].reason
+    assert 3 not in edit.replaced_faces.tolist()
+
+
 # --------------------------------------------------------------------------
 # overlapping sheets and flipped neighbours
 # --------------------------------------------------------------------------
