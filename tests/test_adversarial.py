@@ -1067,7 +1067,7 @@ def test_remesh_plate_options_keep_the_contract(options):
 
 
 # ==========================================================================
-# 5. hypothesis: the four strategies (long run: FRR_LONG_FUZZ=1)
+# 5. hypothesis: the five strategies (long run: FRR_LONG_FUZZ=1)
 # ==========================================================================
 @FUZZ
 @given(A.point_sets())
@@ -1112,6 +1112,28 @@ def test_fuzz_polygons_with_holes_and_refine(case, options):
                 options["max_area"] = abs(tri.area()) / parts
             expect_refine_contract(tri, pts, segs, fill=fill, area=expected, cover="kept",
                                    strict=not fine, **options)
+
+
+@FUZZ
+@given(A.polygons_with_holes(), A.size_options())
+def test_fuzz_polygons_refined_to_a_size(case, options):
+    # the same polygons refined to a size limit (50 to 4,000 parts of the
+    # area) on either path, the batched rounds included: a completed run
+    # honours max_area, an incomplete one names the cap or the limit, and
+    # the result passes both exact checkers with shapely/GEOS's area
+    name, loops = case
+    pts, segs = A.loops_to_input(loops)
+    fine = name.endswith("1e-3@1e6")
+    options = dict(options)
+    parts = options.pop("size_parts")
+    for fill in ("even-odd", "nonzero"):
+        expected = H.fill_rule_area(loops, fill)
+        tri = expect_valid_triangulation(pts, segs, fill=fill, area=expected, cover="kept",
+                                         strict=not fine)
+        if len(tri.triangles):
+            expect_refine_contract(tri, pts, segs, fill=fill, area=expected, cover="kept",
+                                   strict=not fine, max_area=abs(tri.area()) / parts,
+                                   **options)
 
 
 @FUZZ_3D
