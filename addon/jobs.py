@@ -49,11 +49,10 @@ class Figures:
         for report in reports:
             if report.status == "changed":
                 self.regions_changed += 1
-                if not report.complete:
-                    if "max_points" in (report.reason or ""):
-                        self.incomplete += 1
-                    else:
-                        self.over_size += 1
+                if report.stopped_by == "size_limit":
+                    self.over_size += 1
+                elif not report.complete:
+                    self.incomplete += 1
             elif report.status == "skipped":
                 self.regions_skipped += 1
                 self.reasons[short_reason(report.reason)] += 1
@@ -86,8 +85,7 @@ class Figures:
         if self.incomplete:
             text += f"; {self.incomplete} stopped at the point limit"
         if self.over_size:
-            text += (f"; {self.over_size} above the size limit next to edges too short "
-                     "to split")
+            text += f"; {self.over_size} left above the size limit"
         text += (f"; triangles {self.triangles_before} → {self.triangles_after}"
                  f"; smallest angle {self.angle_text(self.min_angle_before)} → "
                  f"{self.angle_text(self.min_angle_after)}")

@@ -90,6 +90,7 @@ import numpy as np
 
 from .bulk_delaunay import claim_flips, incircle_sign, orient_sign
 from .mesh import DEAD
+from .predicates import point_on_left
 from .triangulation import Triangulation
 
 _BIG = np.iinfo(np.int64).max
@@ -805,6 +806,15 @@ class _Rounds:
             return None
         oc = N[c]
         two = oc >= 0
+        # a border piece's point rounded out of the region (right of u -> v;
+        # the triangle of corner c lies on the left) goes one grid step back
+        # in, as in the sequential refiner (engine.predicates.point_on_left)
+        out = np.flatnonzero(~two & (orient_sign(X[u], Y[u], X[v], Y[v], px, py) < 0))
+        if len(out):
+            px, py = px.copy(), py.copy()
+            for i in out.tolist():
+                px[i], py[i] = point_on_left(float(X[u[i]]), float(Y[u[i]]), float(X[v[i]]),
+                                             float(Y[v[i]]), float(px[i]), float(py[i]))
         cand = np.arange(m, dtype=np.int64)
         seed_c = np.concatenate((cand, cand[two]))
         seed_t = np.concatenate((c // 3, oc[two] // 3))
@@ -1151,7 +1161,9 @@ def refine_batched(tri, ref, smoothing=False, smoothing_passes=4):
         if smoothing and smoothing_passes:
             ref.smooth(smoothing_passes)
         out = ref.result(tri)
-        out.stats.update(method="batched", warm_up_points=warm_up, batched_rounds=0)
+        out.stats.update(method="batched", warm_up_points=warm_up, batched_rounds=0,
+                         batched_flips=0, batched_flip_rounds=0, batched_points=0,
+                         sequential_tail=0)
         return out
     ref.heap.clear()                            # the rounds measure every triangle
     ref.big.clear()
@@ -1165,6 +1177,7 @@ def refine_batched(tri, ref, smoothing=False, smoothing_passes=4):
     need_tail = bool(tail) or smoothing
     if pending and added >= cap:
         ref.complete = False
+        ref.stopped_by = "point_cap"
         ref.stop_reason = (f"max_points reached: {ref.cap} points added, {pending} triangles "
                            "still queued")
         need_tail = need_tail and smoothing

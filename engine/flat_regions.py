@@ -208,19 +208,25 @@ PRECISIONS = ("auto", "float32", "float64")
 
 
 def rounding_floor(vertices, precision="auto"):
-    """Rounding noise of the coordinates.  precision "float32": the
-    coordinates were stored in single precision (an STL file, a host's mesh,
-    possibly moved by a float64 transform since); "float64": double
-    precision; "auto": float32 when every coordinate is exactly a float32
-    value, else float64 (a float64 mesh keeps features far below float32
-    resolution, e.g. a millimetre fin at 1e6)."""
+    """Rounding noise of the coordinates: rounding_unit times the largest
+    coordinate magnitude."""
+    v = np.asarray(vertices, dtype=np.float64)
+    return rounding_unit(v, precision) * float(np.abs(v).max(initial=0.0))
+
+
+def rounding_unit(vertices, precision="auto"):
+    """Rounding noise relative to a coordinate's magnitude (FLOAT32_NOISE or
+    FLOAT64_NOISE).  precision "float32": the coordinates were stored in
+    single precision (an STL file, a host's mesh, possibly moved by a float64
+    transform since); "float64": double precision; "auto": float32 when every
+    coordinate is exactly a float32 value, else float64 (a float64 mesh keeps
+    features far below float32 resolution, e.g. a millimetre fin at 1e6)."""
     if precision not in PRECISIONS:
         raise ValueError(f"coordinate_precision must be one of {PRECISIONS}, got {precision!r}")
-    v = np.asarray(vertices, dtype=np.float64)
-    big = float(np.abs(v).max(initial=0.0))
     if precision == "auto":
+        v = np.asarray(vertices, dtype=np.float64)
         with np.errstate(over="ignore"):
             single = bool(np.array_equal(v.astype(np.float32).astype(np.float64), v))
     else:
         single = precision == "float32"
-    return (FLOAT32_NOISE if single else FLOAT64_NOISE) * big
+    return FLOAT32_NOISE if single else FLOAT64_NOISE

@@ -38,6 +38,7 @@ class RegionReport:
     min_angle_after: float = float("nan")
     added_points: int = 0
     complete: bool = True        # False: stopped by the point cap, or size limits not met
+    stopped_by: str = ""         # "" when complete, "point_cap" or "size_limit"
     face_ids: list = field(default_factory=list)   # the original faces of the region
     normal: tuple = (0.0, 0.0, 1.0)                # unit normal of its plane
 
@@ -48,7 +49,8 @@ class RegionReport:
                 "triangles_after": self.triangles_after,
                 "min_angle_before": _finite(self.min_angle_before),
                 "min_angle_after": _finite(self.min_angle_after),
-                "added_points": self.added_points, "complete": self.complete}
+                "added_points": self.added_points, "complete": self.complete,
+                "stopped_by": self.stopped_by}
 
 
 def _finite(value):

@@ -16,6 +16,8 @@ uncertain entries.  The hot loops of the mesh code inline the float filter and
 call ``orient2d_exact`` / ``incircle_exact`` directly when it is inconclusive.
 """
 
+import math
+
 import numpy as np
 
 _EPS = 2.0 ** -53
@@ -116,3 +118,19 @@ def incircle_many(a, b, c, d):
         det[i] = incircle_exact(a[i, 0], a[i, 1], b[i, 0], b[i, 1],
                                 c[i, 0], c[i, 1], d[i, 0], d[i, 1])
     return det
+
+
+def point_on_left(ax, ay, bx, by, px, py):
+    """(px, py), or when it lies strictly right of a -> b (a point rounded
+    off that line), the first of its neighbours on the grid of doubles (the
+    four along the axes, then the four diagonal ones) that lies on the line
+    or left of it (exact signs)."""
+    if orient2d(ax, ay, bx, by, px, py) >= 0:
+        return px, py
+    up_x, down_x = math.nextafter(px, math.inf), math.nextafter(px, -math.inf)
+    up_y, down_y = math.nextafter(py, math.inf), math.nextafter(py, -math.inf)
+    for qx, qy in ((up_x, py), (down_x, py), (px, up_y), (px, down_y), (up_x, up_y),
+                   (up_x, down_y), (down_x, up_y), (down_x, down_y)):
+        if orient2d(ax, ay, bx, by, qx, qy) >= 0:
+            return qx, qy
+    return px, py

@@ -72,7 +72,8 @@ import numpy as np
 from .cdt import mesh_to_triangulation
 from .legalize import illegal_corners, mesh_from_triangles
 from .mesh import DEAD
-from .predicates import CCW_BOUND, INCIRCLE_LOOSE, incircle_exact, orient2d, orient2d_exact
+from .predicates import (CCW_BOUND, INCIRCLE_LOOSE, incircle_exact, orient2d, orient2d_exact,
+                         point_on_left)
 from .quality import quality
 from .smoothing import SmoothingSteps
 from .size_fields import RELAX_GROWTH, RelaxGrid, SizeGrid
@@ -144,7 +145,7 @@ def refine(tri, *, min_angle=30.0, max_area=None, max_edge=None, keep_boundary=F
                      above that the run usually stops at the point limit.
     max_area         no triangle larger than this (hard limit, measured in
                      floating point: a run that cannot meet it, next to
-                     segment pieces too short to split, ends with
+                     segment pieces that cannot be split, ends with
                      complete=False and a stop_reason).
     max_edge         no triangle edge longer than this (hard limit, as above).
     keep_boundary    True: no point is added on any constrained edge or on the
@@ -296,6 +297,7 @@ class _Refiner(SmoothingSteps):
         self.segq = []
         self.cavity_triangles = 0       # triangles removed by the insertions so far
         self.complete = True
+        self.stopped_by = ""            # why not complete: "point_cap" or "size_limit"
         self.stop_reason = ""
         self._mark_constraints(tri)
         # the input need not be constrained Delaunay: make it so (no point moves)
@@ -945,6 +947,7 @@ class _Refiner(SmoothingSteps):
             mesh.vt.pop()
             return "rejected"
         slots = sorted({c // 3 for c in mesh.corners_around(p)})
+        self.cavity_triangles += max(len(slots) - 2, 1)   # as many as a cavity would hold
         for t in slots:
             self._push_if_bad(t)
         self._after_insert_all(p, slots)
@@ -991,6 +994,11 @@ class _Refiner(SmoothingSteps):
         for px, py in ((px, py), self._along(u, v, 1.0 / 3.0), self._along(u, v, 2.0 / 3.0)):
             if (px, py) in ((x[u], y[u]), (x[v], y[v])):
                 continue
+            if oc < 0:
+                # a border piece's point rounded out of the region goes one
+                # grid step back in (else it may land on a boundary an ulp
+                # away, beyond a thin hole, which no cavity test sees)
+                px, py = point_on_left(x[u], y[u], x[v], y[v], px, py)
             found = self._cavity(px, py, seeds, skip=c if oc < 0 else -1)
             if found[1] is not None:
                 break
@@ -1264,6 +1272,8 @@ class _Refiner(SmoothingSteps):
             if tv[3 * t] != DEAD:
                 self._push_if_bad(t)
         self.start = len(mesh.x)
+        if warm_up and WARM_UP_WINDOW <= 0:
+            return              # no sequential start: the rounds take it all
         self.drain(self.cap, warm_up=warm_up)
 
     def drain(self, cap, where="", warm_up=False):
@@ -1283,18 +1293,19 @@ class _Refiner(SmoothingSteps):
         check_at = start + WARM_UP_WINDOW if warm_up else math.inf
         removed = self.cavity_triangles
         while True:
+            if len(mesh.x) - start >= cap and (segq or heap or big):
+                self.complete = False
+                self.stopped_by = "point_cap"
+                self.stop_reason = (f"max_points reached: {len(mesh.x) - start} points added"
+                                    f"{where}, {len(heap) + len(big)} triangles and "
+                                    f"{len(segq)} segments still queued")
+                break
             if len(mesh.x) >= check_at:
                 if self.cavity_triangles - removed < WARM_UP_CAVITY * (len(mesh.x) - check_at
                                                                        + WARM_UP_WINDOW):
                     break
                 check_at = len(mesh.x) + WARM_UP_WINDOW
                 removed = self.cavity_triangles
-            if len(mesh.x) - start >= cap and (segq or heap or big):
-                self.complete = False
-                self.stop_reason = (f"max_points reached: {len(mesh.x) - start} points added"
-                                    f"{where}, {len(heap) + len(big)} triangles and "
-                                    f"{len(segq)} segments still queued")
-                break
             if segq:
                 u, v = segq.pop()
                 c = self._edge_corner(u, v)
@@ -1337,15 +1348,19 @@ class _Refiner(SmoothingSteps):
     def finish(self, tri, out):
         """Set the completion flag, stop reason and before/after figures on out."""
         out.complete = self.complete
+        out.stopped_by = self.stopped_by
         out.stop_reason = self.stop_reason
         over = self._over_size_limits(out)
         if over and out.complete:
             # the limits are hard: a run that could not meet them is not
-            # complete (segment pieces next to them too short to split)
+            # complete (segment pieces next to them could not be split)
             out.complete = False
-            out.stop_reason = (f"{over} triangle(s) above the size limits next to "
-                               f"{self.stats['frozen_segments']} segment piece(s) too short "
-                               "to split")
+            out.stopped_by = "size_limit"
+            out.stop_reason = f"{over} triangle(s) above the size limits"
+            frozen = self.stats["frozen_segments"]
+            if frozen:
+                out.stop_reason += (f" next to {frozen} segment piece(s) that could not be "
+                                    "split (too short, or a vertex within rounding of them)")
         q0 = quality(tri.points, tri.triangles)
         q1 = quality(out.points, out.triangles)
         stats = dict(self.stats)

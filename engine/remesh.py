@@ -29,7 +29,7 @@ import math
 import numpy as np
 
 from .cdt import triangulate
-from .flat_regions import EdgeTable, find_regions, newell_normals
+from .flat_regions import FLOAT64_NOISE, EdgeTable, find_regions, newell_normals, rounding_unit
 from .edit_store import FaceStore, TriangleBlock, VertexStore
 from .face_locator import FaceLocator, PlaneProjection
 from .mesh_edit import MeshEdit, RegionReport
@@ -97,6 +97,7 @@ def remesh_flat_regions(vertices, faces, *, face_mask=None, flat_angle=1.0, flat
         verts, polys, face_mask=mask, flat_angle=float(flat_angle),
         flat_distance=None if flat_distance is None else float(flat_distance),
         break_edge_ids=break_ids, edges=edges, coordinate_precision=coordinate_precision)
+    unit = rounding_unit(verts, coordinate_precision)
     options = dict(min_angle=min_angle, max_edge=max_edge, max_area=max_area,
                    keep_boundary=bool(keep_boundary), smoothing=smoothing,
                    size_growth=size_growth, max_points=max_points)
@@ -107,7 +108,7 @@ def remesh_flat_regions(vertices, faces, *, face_mask=None, flat_angle=1.0, flat
         usable = list(range(len(regions)))
         for _ in range(6):
             probe = _EditBuilder(verts, polys, edges, break_ids, bool(keep_interior_vertices),
-                                 straighten=float(straighten_tolerance))
+                                 straighten=float(straighten_tolerance), noise_unit=unit)
             probe.dropped_border = dropped_border
             usable = [rid for rid in usable if probe.precheck(regions[rid])]
             again = straight_run_vertices(
@@ -121,7 +122,8 @@ def remesh_flat_regions(vertices, faces, *, face_mask=None, flat_angle=1.0, flat
 
     def run(presplit):
         builder = _EditBuilder(verts, polys, edges, break_ids, bool(keep_interior_vertices),
-                               presplit=presplit, straighten=straighten_tolerance or 0.0)
+                               presplit=presplit, straighten=straighten_tolerance or 0.0,
+                               noise_unit=unit)
         builder.dropped_border = dropped_border
         for rid in sorted(range(len(regions)), key=lambda r: builder.region_area(regions[r])):
             builder.remesh_region(rid, regions[rid], options)
@@ -187,8 +189,9 @@ class _EditBuilder:
     """Accumulates the MeshEdit while regions are processed one by one."""
 
     def __init__(self, verts, polys, edges, break_ids, keep_interior, presplit=None,
-                 straighten=0.0):
+                 straighten=0.0, noise_unit=FLOAT64_NOISE):
         self.verts = verts
+        self.noise_unit = noise_unit     # rounding of a coordinate, relative to it
         self.polys = polys
         self.edges = edges
         self.break_ids = break_ids
@@ -269,9 +272,8 @@ class _EditBuilder:
         faces = region.faces
         if self._degenerate(faces):
             raise RegionSkipped("degenerate: the faces have no area")
-        if len(region.noise_faces) == len(faces):
-            # every face is thinner than the coordinates' rounding (a
-            # zero-area face stored in single precision): nothing to remesh
+        if len(region.noise_faces) == len(faces) and self._thinner_than_rounding(faces):
+            # a zero-area face stored in single precision, say: nothing to remesh
             raise RegionSkipped("degenerate: the faces are thinner than the rounding "
                                 "of their coordinates")
         if region.deviation > region.tolerance * 1.000001:
@@ -393,6 +395,7 @@ class _EditBuilder:
             min_angle_before=before, min_angle_after=after.min_angle,
             added_points=int(len(refined.points) - len(point_ids)),
             complete=bool(refined.complete),
+            stopped_by=refined.stopped_by,
             reason=refined.stop_reason)
 
     def _overlapped(self, border_corners, region_faces, normal):
@@ -570,6 +573,20 @@ class _EditBuilder:
                                   for f in faces])
         span = float(np.ptp(self.verts[corners], axis=0).max())
         return float(self.face_areas[faces].sum()) <= 1e-12 * span * span
+
+    def _thinner_than_rounding(self, faces):
+        """True when every face's height (twice its area over its longest
+        edge) is within the rounding of its own coordinates."""
+        if self.face_areas is None:
+            self.face_areas = 0.5 * np.linalg.norm(newell_normals(self.verts, self.polys), axis=1)
+        polys = self.polys
+        for f in faces:
+            pos = self.verts[polys.corners[polys.starts[f]:polys.starts[f + 1]]]
+            longest = float(np.linalg.norm(pos - np.roll(pos, 1, axis=0), axis=1).max())
+            height = 2.0 * float(self.face_areas[f]) / longest if longest > 0 else 0.0
+            if height > self.noise_unit * float(np.abs(pos).max()):
+                return False
+        return True
 
     def _final_figures(self, out_faces, out_region, new_positions):
         """Triangle counts and smallest angles of each changed region as

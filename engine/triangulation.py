@@ -22,6 +22,8 @@ class Triangulation:
                     row equal to its own index is used, others are later
                     copies of a duplicate point and no triangle uses them.
     complete        False when a limit stopped the work early (see stop_reason).
+    stopped_by      "" when complete, "point_cap" (max_points reached) or
+                    "size_limit" (triangles left above max_area / max_edge).
     stop_reason     why it stopped early, "" when complete.
     stats           free-form figures about the run (counts, flips, ...).
     """
@@ -33,6 +35,7 @@ class Triangulation:
     segment_source: np.ndarray
     merged_into: np.ndarray
     complete: bool = True
+    stopped_by: str = ""
     stop_reason: str = ""
     stats: dict = field(default_factory=dict)
 

@@ -138,14 +138,14 @@ def test_report_line_names_why_a_region_is_not_complete():
     figures = jobs.Figures(meshes=1)
     figures.add_regions([
         engine.RegionReport(region=0, faces=4, status="changed", complete=False,
-                            reason="max_points reached: 10 points added, 3 triangles "
+                            stopped_by="point_cap", reason="max_points reached: 10 points added, 3 triangles "
                                    "and 0 segments still queued"),
         engine.RegionReport(region=1, faces=4, status="changed", complete=False,
-                            reason="2 triangle(s) above the size limits next to 1 segment "
-                                   "piece(s) too short to split"),
+                            stopped_by="size_limit",
+                            reason="2 triangle(s) above the size limits"),
         engine.RegionReport(region=2, faces=4, status="changed"),
     ])
     line = figures.line()
     assert "Remeshed 3 region(s)" in line
     assert "1 stopped at the point limit" in line
-    assert "1 above the size limit" in line
+    assert "1 left above the size limit" in line

@@ -1,7 +1,8 @@
 """The batched refinement path (engine.refine(..., method="batched")).
 
 1. Every test of tests/test_refine.py runs again here with
-   ``method="batched"`` as the default of engine.refine (the names are
+   ``method="batched"`` as the default of engine.refine and the sequential
+   start switched off, so that small inputs reach the rounds (the names are
    imported below, so pytest collects them a second time in this module,
    where the fixture switches the method): the same outside references
    (tests/helpers.py's exact rational checker, shapely areas, the published
@@ -14,6 +15,7 @@
    leftovers to the sequential refiner, and the choice made by "auto".
 """
 
+import importlib
 import math
 
 import numpy as np
@@ -25,11 +27,12 @@ import engine
 from engine import batch_refine
 from engine.legalize import mesh_from_triangles
 from engine.quality import triangle_angles
-from engine.refine import WARM_UP_WINDOW
 from engine.validate import check_triangulation as engine_check
 
 from . import test_refine as base
 from .test_refine import *  # every test of test_refine, collected again here
+
+refine_module = importlib.import_module("engine.refine")
 
 # these tests use options that always run on the sequential refiner
 # (keep_boundary, size_growth, smoothing): repeating them here would test
@@ -44,7 +47,10 @@ _REAL_REFINE = engine.refine
 
 @pytest.fixture(autouse=True, scope="module")
 def _batched_by_default():
-    """engine.refine defaults to method="batched" for this module's tests."""
+    """engine.refine defaults to method="batched" for this module's tests,
+    without the sequential start (WARM_UP_WINDOW = 0), so that the small
+    inputs of tests/test_refine.py reach the rounds too;
+    test_sliver_fan_starts_sequentially_then_goes_batched puts it back."""
 
     def refine(tri, **kw):
         kw.setdefault("method", "batched")
@@ -52,6 +58,7 @@ def _batched_by_default():
 
     mp = pytest.MonkeyPatch()
     mp.setattr(engine, "refine", refine)
+    mp.setattr(refine_module, "WARM_UP_WINDOW", 0)
     yield
     mp.undo()
 
@@ -207,20 +214,21 @@ def test_lake_with_islands_against_shapely():
     assert (mins >= 30.0).mean() >= 0.999
 
 
-def test_sliver_fan_starts_sequentially_then_goes_batched():
+def test_sliver_fan_starts_sequentially_then_goes_batched(monkeypatch):
     # an ellipse outlined by 600 close vertices: its constrained Delaunay
     # triangulation is all long slivers, whose first insertions have cavities
     # of hundreds of triangles.  The sequential refiner takes those, the rounds
     # the rest; the result holds the same outside checks as the sequential
     # path (tests/helpers.py's exact checker, shapely's area) and about as
     # many points
+    monkeypatch.setattr(refine_module, "WARM_UP_WINDOW", 64)
     th = 2 * np.pi * np.arange(600) / 600
     loops = [list(zip(np.cos(th), 0.6 * np.sin(th)))]
     pts, segs, tri = base.setup(loops)
     outs = {m: _REAL_REFINE(tri, min_angle=30.0, max_edge=0.05, method=m)
             for m in ("batched", "sequential")}
     batched = outs["batched"]
-    assert batched.stats["warm_up_points"] >= WARM_UP_WINDOW
+    assert batched.stats["warm_up_points"] >= 64
     assert batched.stats["batched_rounds"] > 1 and batched.stats["batched_points"] > 0
     for out in outs.values():
         assert out.complete
