@@ -383,7 +383,6 @@ class _Builder:
         N[:3 * T] = order[pos]
         self.ntri = T
         # locate the other points by angular binary search around hull[0]
-        X, Y = self.X, self.Y
         m = len(rest)
         lo = np.ones(m, dtype=np.int64)
         hi = np.full(m, h - 1, dtype=np.int64)
@@ -695,6 +694,6 @@ def bulk_delaunay(xs, ys, indices, seed=0, stats=None, flip_limit=4):
     for p, t in zip(deferred, hints):
         insert(p, locate(x[p], y[p], t))
     if stats is not None:
-        stats.update(rounds=b.rounds, flips=b.flips, flip_rounds=b.flip_rounds, sequential=len(deferred),
-                     hull=len(hull))
+        stats.update(rounds=b.rounds, flips=b.flips, flip_rounds=b.flip_rounds,
+                     sequential=len(deferred), hull=len(hull))
     return mesh

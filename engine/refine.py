@@ -1041,7 +1041,7 @@ class _Refiner(SmoothingSteps):
         triangle beside the segment, which the split removes all the same:
         the fan may then hold edges that are not locally Delaunay."""
         mesh = self.mesh
-        tv, tn, tc = mesh.tv, mesh.tn, mesh.tc
+        tv, tn = mesh.tv, mesh.tn
         is_illegal, flip = mesh.edge_is_illegal, mesh.flip
         stack = [3 * t + k for t in slots for k in (0, 1, 2)]
         touched = set()

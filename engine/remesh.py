@@ -33,7 +33,7 @@ from .flat_regions import FLOAT64_NOISE, EdgeTable, find_regions, newell_normals
 from .edit_store import FaceStore, TriangleBlock, VertexStore
 from .face_locator import FaceLocator, PlaneProjection
 from .mesh_edit import MeshEdit, RegionReport
-from .polygons import PolygonList, check_mesh, corner_ranges
+from .polygons import check_mesh, corner_ranges
 from .quality import quality
 from .straighten import straight_run_vertices
 

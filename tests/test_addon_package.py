@@ -138,7 +138,8 @@ def test_report_line_names_why_a_region_is_not_complete():
     figures = jobs.Figures(meshes=1)
     figures.add_regions([
         engine.RegionReport(region=0, faces=4, status="changed", complete=False,
-                            stopped_by="point_cap", reason="max_points reached: 10 points added, 3 triangles "
+                            stopped_by="point_cap",
+                            reason="max_points reached: 10 points added, 3 triangles "
                                    "and 0 segments still queued"),
         engine.RegionReport(region=1, faces=4, status="changed", complete=False,
                             stopped_by="size_limit",
