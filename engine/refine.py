@@ -171,8 +171,10 @@ def refine(tri, *, min_angle=30.0, max_area=None, max_edge=None, keep_boundary=F
                      edges only (e.g. an outline shared with a finished mesh).
     method           "sequential": one point at a time (the reference path);
                      "batched": array rounds of independent insertions
-                     (:mod:`engine.batch_refine`; keep_boundary, size_growth,
-                     fixed_segments and smoothing run sequentially); "auto":
+                     (:mod:`engine.batch_refine`), after one point at a time
+                     while the cavities are large (WARM_UP_CAVITY);
+                     keep_boundary, size_growth, fixed_segments and smoothing
+                     run sequentially; "auto":
                      batched when the refined mesh is expected to have at
                      least BATCHED_FROM triangles and the options allow it.
 
