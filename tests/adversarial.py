@@ -626,10 +626,11 @@ def refine_options(draw, cap_max=300):
 def size_options(draw):
     """Options for engine.refine driven by a size limit, large enough for the
     batched rounds to run: "size_parts" (the region's area over max_area, 50
-    to 4,000), the path, and a cap that may or may not stop the run."""
+    to 4,000), the path, and a cap that may or may not stop the run (always
+    a cap: above ~21 degrees small input angles may keep refinement going)."""
     return dict(min_angle=draw(st.sampled_from([0.0, 20.0, 30.0, 33.0])),
                 size_parts=draw(st.integers(50, 4000)),
-                max_points=draw(st.sampled_from([None, 300, 1000, 3000])),
+                max_points=draw(st.sampled_from([300, 1000, 3000])),
                 off_centers=draw(st.booleans()),
                 encroachment=draw(st.sampled_from(["lens", "circle"])),
                 method=draw(st.sampled_from(["auto", "sequential", "batched"])))
