@@ -1094,14 +1094,10 @@ def test_fuzz_segment_sets(case):
                                 fill="hull", strict=not fine)
 
 
-@FUZZ
-@given(A.polygons_with_holes(), A.refine_options())
-def test_fuzz_polygons_with_holes_and_refine(case, options):
-    # polygons with holes (inside, touching the outline, bow-tie, same
-    # direction), both fill rules: area = shapely/GEOS fill-rule area; then
-    # refinement with a small cap, on either path, sometimes with a size
-    # limit: stops, honours the cap, stays valid, a completed run honours
-    # max_area
+def refine_polygons_on_both_fills(case, options):
+    """Triangulate a polygons_with_holes case under both fill rules (area =
+    shapely/GEOS fill-rule area) and refine each with `options`; the option
+    "size_parts" (None or N) becomes max_area = area / N."""
     name, loops = case
     pts, segs = A.loops_to_input(loops)
     fine = name.endswith("1e-3@1e6")
@@ -1119,25 +1115,24 @@ def test_fuzz_polygons_with_holes_and_refine(case, options):
 
 
 @FUZZ
+@given(A.polygons_with_holes(), A.refine_options())
+def test_fuzz_polygons_with_holes_and_refine(case, options):
+    # polygons with holes (inside, touching the outline, bow-tie, same
+    # direction), both fill rules: area = shapely/GEOS fill-rule area; then
+    # refinement with a small cap, on either path, sometimes with a size
+    # limit: stops, honours the cap, stays valid, a completed run honours
+    # max_area
+    refine_polygons_on_both_fills(case, options)
+
+
+@FUZZ
 @given(A.polygons_with_holes(), A.size_options())
 def test_fuzz_polygons_refined_to_a_size(case, options):
     # the same polygons refined to a size limit (50 to 4,000 parts of the
     # area) on either path, the batched rounds included: a completed run
     # honours max_area, an incomplete one names the cap or the limit, and
     # the result passes both exact checkers with shapely/GEOS's area
-    name, loops = case
-    pts, segs = A.loops_to_input(loops)
-    fine = name.endswith("1e-3@1e6")
-    options = dict(options)
-    parts = options.pop("size_parts")
-    for fill in ("even-odd", "nonzero"):
-        expected = H.fill_rule_area(loops, fill)
-        tri = expect_valid_triangulation(pts, segs, fill=fill, area=expected, cover="kept",
-                                         strict=not fine)
-        if len(tri.triangles):
-            expect_refine_contract(tri, pts, segs, fill=fill, area=expected, cover="kept",
-                                   strict=not fine, max_area=abs(tri.area()) / parts,
-                                   **options)
+    refine_polygons_on_both_fills(case, options)
 
 
 @FUZZ_3D

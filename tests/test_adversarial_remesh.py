@@ -104,6 +104,17 @@ PENTAGON_HOLE_AT_VERTEX = [
 ]
 
 
+def refine_to_fiftieths(loops, fill, method):
+    """Size-only refinement (min_angle 0, max_area a fiftieth of the area)
+    under the refine contract (both exact checkers, the fill rule's area from
+    shapely/GEOS, max_area checked exactly when complete)."""
+    pts, segs = A.loops_to_input(loops)
+    tri = engine.triangulate(pts, segs, fill=fill)
+    return expect_refine_contract(tri, pts, segs, fill=fill, area=H.fill_rule_area(loops, fill),
+                                  cover="kept", min_angle=0.0, off_centers=False,
+                                  max_area=abs(tri.area()) / 50, method=method)
+
+
 @pytest.mark.parametrize("method", ["sequential", "batched"])
 @pytest.mark.parametrize("fill", ["even-odd", "nonzero"])
 def test_size_limit_holds_next_to_a_pinched_vertex(fill, method):
@@ -114,12 +125,7 @@ def test_size_limit_holds_next_to_a_pinched_vertex(fill, method):
     # max_area (refine's docstring: a hard limit; expect_refine_contract
     # checks it in exact arithmetic) and passes both exact checkers with the
     # fill rule's area from shapely/GEOS
-    loops = PENTAGON_HOLE_AT_VERTEX
-    pts, segs = A.loops_to_input(loops)
-    tri = engine.triangulate(pts, segs, fill=fill)
-    out = expect_refine_contract(tri, pts, segs, fill=fill, area=H.fill_rule_area(loops, fill),
-                                 cover="kept", min_angle=0.0, off_centers=False,
-                                 max_area=abs(tri.area()) / 50, method=method)
+    out = refine_to_fiftieths(PENTAGON_HOLE_AT_VERTEX, fill, method)
     assert out.complete is True
 
 
@@ -144,12 +150,7 @@ def test_size_limit_next_to_a_vertex_within_rounding_of_the_outline(fill, method
     # max_area or says it could not (complete=False, the limit named, at most
     # one triangle over), and both exact checkers pass with shapely/GEOS's
     # area
-    loops = PENTAGON_HOLE_ON_EDGE
-    pts, segs = A.loops_to_input(loops)
-    tri = engine.triangulate(pts, segs, fill=fill)
-    out = expect_refine_contract(tri, pts, segs, fill=fill, area=H.fill_rule_area(loops, fill),
-                                 cover="kept", min_angle=0.0, off_centers=False,
-                                 max_area=abs(tri.area()) / 50, method=method)
+    out = refine_to_fiftieths(PENTAGON_HOLE_ON_EDGE, fill, method)
     if not out.complete:
         assert out.stop_reason.startswith("1 triangle(s) above the size limits")
 
