@@ -474,7 +474,7 @@ class _EditBuilder:
         corners of its face triangle, a point on an original edge the
         corners at the ends of that edge."""
         n, cv, foc = self.n, self.polys.corners, self.face_of_corner
-        area = self.face_areas
+        area = self._face_areas()
         tris = np.asarray(tris, dtype=np.int64).reshape(-1, 3)
         m = len(vid_of)
         region_v = cv[corners]
@@ -560,30 +560,31 @@ class _EditBuilder:
         return TriangleBlock(vid_of[tris], source, index, weight, count)
 
     def region_area(self, region):
-        if self.face_areas is None:
-            self.face_areas = 0.5 * np.linalg.norm(newell_normals(self.verts, self.polys), axis=1)
-        return float(self.face_areas[region.faces].sum())
+        return float(self._face_areas()[region.faces].sum())
 
     def _degenerate(self, faces):
         """True when the faces' total area is nil next to their extent."""
-        if self.face_areas is None:
-            self.face_areas = 0.5 * np.linalg.norm(newell_normals(self.verts, self.polys), axis=1)
         polys = self.polys
         corners = np.concatenate([polys.corners[polys.starts[f]:polys.starts[f + 1]]
                                   for f in faces])
         span = float(np.ptp(self.verts[corners], axis=0).max())
-        return float(self.face_areas[faces].sum()) <= 1e-12 * span * span
+        return float(self._face_areas()[faces].sum()) <= 1e-12 * span * span
+
+    def _face_areas(self):
+        """Area of every face (Newell), computed once."""
+        if self.face_areas is None:
+            self.face_areas = 0.5 * np.linalg.norm(newell_normals(self.verts, self.polys), axis=1)
+        return self.face_areas
 
     def _thinner_than_rounding(self, faces):
         """True when every face's height (twice its area over its longest
         edge) is within the rounding of its own coordinates."""
-        if self.face_areas is None:
-            self.face_areas = 0.5 * np.linalg.norm(newell_normals(self.verts, self.polys), axis=1)
+        areas = self._face_areas()
         polys = self.polys
         for f in faces:
             pos = self.verts[polys.corners[polys.starts[f]:polys.starts[f + 1]]]
             longest = float(np.linalg.norm(pos - np.roll(pos, 1, axis=0), axis=1).max())
-            height = 2.0 * float(self.face_areas[f]) / longest if longest > 0 else 0.0
+            height = 2.0 * float(areas[f]) / longest if longest > 0 else 0.0
             if height > self.noise_unit * float(np.abs(pos).max()):
                 return False
         return True
